@@ -1,0 +1,3 @@
+//! The `rolloff` command: parses arguments, calls the library, formats results.
+
+fn main() {}

@@ -1,0 +1,1 @@
+//! Integration tests of the whole pipeline against references outside the project.
