@@ -147,6 +147,11 @@ impl<S: LinearSolver> Analyzer<S> {
         &self.system
     }
 
+    /// The linear solver (for its own statistics).
+    pub fn solver(&self) -> &S {
+        &self.solver
+    }
+
     /// Warnings found so far: positive op-amp feedback (at construction) and
     /// ill-conditioning (the worst frequency, updated as solves run).
     pub fn warnings(&self) -> &[MnaWarning] {
