@@ -1,4 +1,8 @@
 //! rolloff-tolerance: buildable values and tolerance analysis.
 //!
-//! Will own the IEC 60063 standard value series, fitting part values to expectations,
-//! Monte Carlo, worst case and sensitivity. It does not parse text or print.
+//! Owns the IEC 60063 standard value series ([`series`]), tolerance-band sampling and
+//! reproducible parallel trials ([`sampling`]). It does not parse text, stamp matrices,
+//! compute response metrics itself (it asks `rolloff-report`) or print.
+
+pub mod sampling;
+pub mod series;
