@@ -23,7 +23,7 @@ fn draws(band: Tolerance, distribution: Distribution, n: usize) -> Vec<f64> {
 fn uniform_band_has_the_uniform_moments() {
     // A uniform ±t band has mean 1 and σ = t/√3 (textbook moments of a uniform law).
     let t = 0.05;
-    let v = draws(Tolerance::symmetric(t), Distribution::Uniform, 100_000);
+    let v = draws(Tolerance::symmetric(t), Distribution::Uniform, 20_000);
     assert!(v.iter().all(|f| (1.0 - t..=1.0 + t).contains(f)));
     let s = summarize(&v).unwrap();
     assert!((s.mean - 1.0).abs() < 1e-3 * t * 10.0, "{s:?}");
@@ -41,7 +41,7 @@ fn gaussian_band_is_three_sigma_truncated() {
     // Normal truncated at ±3σ: variance 1 − 6φ(3)/(2Φ(3) − 1) = 0.97334 (standard
     // truncated-normal moments), so σ is 0.98658 of the untruncated t/3.
     let t = 0.1;
-    let v = draws(Tolerance::symmetric(t), Distribution::Gaussian, 100_000);
+    let v = draws(Tolerance::symmetric(t), Distribution::Gaussian, 30_000);
     assert!(v.iter().all(|f| (1.0 - t..=1.0 + t).contains(f)));
     let s = summarize(&v).unwrap();
     assert!((s.mean - 1.0).abs() < 1e-3, "{s:?}");
@@ -59,7 +59,7 @@ fn asymmetric_band_is_honoured() {
         upper: 0.8,
     };
     for distribution in [Distribution::Uniform, Distribution::Gaussian] {
-        let v = draws(band, distribution, 50_000);
+        let v = draws(band, distribution, 10_000);
         assert!(v.iter().all(|f| (0.8..=1.8).contains(f)));
         let s = summarize(&v).unwrap();
         assert!((s.mean - 1.3).abs() < 0.01, "{distribution:?} {s:?}");
@@ -72,7 +72,7 @@ fn trials_are_bitwise_reproducible_across_thread_counts() {
     let band = Tolerance::symmetric(0.01);
     let run = |threads| {
         run_trials(
-            10_000,
+            4_000,
             99,
             Some(&pool(threads)),
             Vec::<f64>::new,
@@ -85,7 +85,7 @@ fn trials_are_bitwise_reproducible_across_thread_counts() {
         )
     };
     let (one, two) = (run(1), run(2));
-    assert_eq!(one.len(), 10_000);
+    assert_eq!(one.len(), 4_000);
     assert!(
         one.iter()
             .zip(&two)
