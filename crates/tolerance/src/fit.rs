@@ -494,33 +494,4 @@ fn brent(
 
 #[cfg(test)]
 #[allow(clippy::unwrap_used, clippy::expect_used)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn brent_finds_textbook_roots() {
-        // x³ − 2x − 5 = 0 has the root 2.0945514815423265 (Wallis' equation, a
-        // classical test of root finders).
-        let mut f = |x: f64| Ok::<_, String>(x * x * x - 2.0 * x - 5.0);
-        let (fa, fb) = (f(2.0).unwrap(), f(3.0).unwrap());
-        let root = brent(&mut f, (2.0, fa), (3.0, fb), 1e-15, 100).unwrap();
-        assert!((root - 2.094_551_481_542_326_5).abs() < 1e-14);
-        // cos x = x: 0.7390851332151607 (the Dottie number).
-        let mut g = |x: f64| Ok::<_, String>(x.cos() - x);
-        let root = brent(&mut g, (0.0, 1.0), (1.0, 1f64.cos() - 1.0), 1e-15, 100).unwrap();
-        assert!((root - 0.739_085_133_215_160_7).abs() < 1e-14);
-    }
-
-    #[test]
-    fn bracket_prefers_the_sign_change_nearest_the_start() {
-        // sin has roots at π and 2π in [2, 7]; start near 6 picks 2π.
-        let mut f = |u: f64| Ok::<_, String>(u.sin());
-        let (a, _, b, _) = bracket(&mut f, 2.0, 7.0, 6.0, 20).unwrap();
-        assert!(a <= std::f64::consts::TAU && std::f64::consts::TAU <= b);
-        let (a, _, b, _) = bracket(&mut f, 2.0, 7.0, 2.5, 20).unwrap();
-        assert!(a <= std::f64::consts::PI && std::f64::consts::PI <= b);
-        let mut never = |_u: f64| Ok::<_, String>(1.0);
-        let err = bracket(&mut never, 0.0, 1.0, 0.5, 4).unwrap_err();
-        assert!(err.contains("between 1.000000e0 and 1.000000e0"), "{err}");
-    }
-}
+mod tests;

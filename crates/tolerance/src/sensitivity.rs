@@ -243,6 +243,75 @@ fn log_derivative(m0: f64, up: f64, down: f64, h: f64) -> LogDerivative {
 #[allow(clippy::unwrap_used, clippy::expect_used)]
 mod tests {
     use super::*;
+    use crate::testing::{FormulaModel, expectation, rc_cutoff};
+    use rolloff_netlist::{Circuit, Comparison, Metric, MetricKind, Unit};
+
+    fn rc(formula: crate::testing::Formula) -> FormulaModel {
+        let mut circuit = Circuit::builder()
+            .vsrc("V1", "in", "gnd", 1.0)
+            .resistor("R1", "in", "out", 10e3)
+            .capacitor("C1", "out", "gnd", 10e-9)
+            .build()
+            .unwrap();
+        let e = expectation(
+            &circuit,
+            MetricKind::Cutoff,
+            "out",
+            Comparison::Greater(0.0),
+            Unit::Hertz,
+            "cutoff(out)",
+        );
+        circuit.expectations.push(e);
+        FormulaModel::new(circuit, formula)
+    }
+
+    #[test]
+    fn rc_cutoff_has_unit_negative_sensitivities() {
+        // fc = 1/(2πRC): ∂ln fc/∂ln R = ∂ln fc/∂ln C = −1 (analytic).
+        let report = sensitivity(&rc(rc_cutoff), &SensitivityOptions::default(), None).unwrap();
+        let m = &report.metrics[0];
+        assert_eq!(m.parts.len(), 2, "only passives");
+        for p in &m.parts {
+            assert!((p.normalized.unwrap() + 1.0).abs() < 1e-9, "{p:?}");
+            // ∂fc/∂x = −fc/x.
+            assert!((p.derivative.unwrap() / (-m.nominal / p.value) - 1.0).abs() < 1e-6);
+        }
+    }
+
+    #[allow(clippy::unnecessary_wraps)]
+    fn power(values: &[f64], _metric: &Metric) -> Result<f64, String> {
+        Ok(values[1].powi(2) / values[2].sqrt())
+    }
+
+    #[test]
+    fn parts_are_sorted_by_magnitude() {
+        let options = SensitivityOptions::default();
+        let report = sensitivity(&rc(power), &options, None).unwrap();
+        let got: Vec<(&str, f64)> = report.metrics[0]
+            .parts
+            .iter()
+            .map(|p| (p.name.as_str(), (p.normalized.unwrap() * 1e6).round() / 1e6))
+            .collect();
+        assert_eq!(got, [("R1", 2.0), ("C1", -0.5)]);
+        let only_c = SensitivityOptions {
+            parts: Some(vec![PartId(2)]),
+            ..options.clone()
+        };
+        assert_eq!(
+            sensitivity(&rc(power), &only_c, None).unwrap().metrics[0]
+                .parts
+                .len(),
+            1
+        );
+        let source = SensitivityOptions {
+            parts: Some(vec![PartId(0)]),
+            ..options
+        };
+        assert!(matches!(
+            sensitivity(&rc(power), &source, None),
+            Err(ToleranceError::InvalidOption { .. })
+        ));
+    }
 
     #[test]
     fn power_laws_are_exact() {

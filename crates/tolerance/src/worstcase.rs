@@ -287,3 +287,7 @@ fn extremes(
     };
     (extreme(min), extreme(max), failures)
 }
+
+#[cfg(test)]
+#[allow(clippy::unwrap_used, clippy::expect_used)]
+mod tests;
