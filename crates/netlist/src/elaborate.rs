@@ -98,6 +98,7 @@ pub(crate) fn elaborate(
         part_index: HashMap::new(),
         part_name_span: Vec::new(),
         bad_blocks: HashSet::new(),
+        failed_parts: HashSet::new(),
         has_fit: false,
     };
     e.names
@@ -120,6 +121,7 @@ struct Elaborator<'a> {
     part_index: HashMap<String, PartId>,
     part_name_span: Vec<Span>,
     bad_blocks: HashSet<String>,
+    failed_parts: HashSet<String>,
     has_fit: bool,
 }
 
@@ -172,6 +174,15 @@ impl<'a> Elaborator<'a> {
             ..Circuit::default()
         };
         self.nodes.clone_from(&circuit.nodes);
+        if circuit.parts.is_empty() && !self.diags.iter().any(Diagnostic::is_error) {
+            let end = self.source.len();
+            self.error(
+                DiagnosticKind::Empty,
+                Span::new(end, end),
+                "the circuit has no parts",
+            )
+            .expected = Some("expected at least one part (`resistor`, `vsrc`, …)".into());
+        }
         self.analyses(statements, &mut circuit);
         self.graph_checks(&circuit);
         self.unused_lets();
@@ -604,12 +615,14 @@ impl<'a> Elaborator<'a> {
             .expected = Some(format!("expected {want}"));
             return;
         }
-        let Some(kind) = self.part_kind(p, &nodes, &from, scope) else {
-            return;
-        };
         if !self.declare_name(&name, p.name.span, NameKind::Part) {
             return;
         }
+        let Some(kind) = self.part_kind(p, &nodes, &from, scope) else {
+            // Keep the name reserved, so later mentions do not add "unknown" errors.
+            self.failed_parts.insert(name);
+            return;
+        };
         let id = PartId(self.parts.len() as u32);
         self.part_index.insert(name.clone(), id);
         self.part_name_span.push(p.name.span);
@@ -1400,6 +1413,9 @@ impl<'a> Elaborator<'a> {
         if let Some(&id) = self.part_index.get(&n.name) {
             return Some(id);
         }
+        if self.failed_parts.contains(&n.name) {
+            return None;
+        }
         let names: Vec<String> = self.part_index.keys().cloned().collect();
         self.unknown(
             n,
@@ -1680,7 +1696,14 @@ impl<'a> Elaborator<'a> {
             CmpSyntax::Equal(e, tol) => {
                 let value = self.bound(e, scope, unit, "the value");
                 let deviation = match tol {
-                    Some(t) => self.deviation(t, scope, unit),
+                    Some(t) => self.deviation(t, scope, unit).map(|d| match d {
+                        // A bare tolerance is in the value's unit as written: dB/oct
+                        // converts like the value did.
+                        Deviation::Absolute(v) if written_per_octave(e) && bare(t) => {
+                            Deviation::Absolute(v * std::f64::consts::LOG2_10)
+                        }
+                        other => other,
+                    }),
                     None if self.has_fit => Some(Deviation::Relative(0.0)),
                     None => {
                         self.error(DiagnosticKind::Syntax, e.span, "`=` needs a tolerance")
@@ -1948,6 +1971,14 @@ pub(crate) fn unit_dim(unit: Unit) -> Dim {
         Unit::Second => Dim::Si(SECOND),
         Unit::Dimensionless => Dim::Si(DIMENSIONLESS),
     }
+}
+
+fn written_per_octave(e: &Expr) -> bool {
+    matches!(&e.kind, ExprKind::Number(l) if l.unit == Some(crate::units::UnitSym::DbPerOctave))
+}
+
+fn bare(e: &Expr) -> bool {
+    matches!(&e.kind, ExprKind::Number(l) if l.unit.is_none())
 }
 
 fn describe_quantity(q: Quantity) -> String {
