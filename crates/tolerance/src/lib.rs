@@ -11,6 +11,7 @@
 //! (metrics come from the model), format output or print; it never builds the global
 //! rayon pool (callers pass a pool or run inside their own).
 
+pub mod circuit_model;
 pub mod error;
 pub mod fit;
 pub mod model;
@@ -23,6 +24,7 @@ pub mod worstcase;
 #[cfg(test)]
 pub(crate) mod testing;
 
+pub use circuit_model::CircuitModel;
 pub use error::ToleranceError;
 pub use fit::{FitOptions, FitReport, fit};
 pub use model::{Model, TolerancedPart};

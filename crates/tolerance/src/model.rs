@@ -5,7 +5,7 @@
 //! The analyses are written against [`Model`] so they can run on the solver-backed
 //! circuit model and, in tests, on closed-form models with known answers.
 
-use rolloff_netlist::{Circuit, Comparison, Deviation, Metric, PartId, PartKind, Tolerance, Unit};
+use rolloff_netlist::{Circuit, Expectation, Metric, PartId, PartKind, Tolerance, Unit};
 
 /// A circuit whose part values can be changed and whose metrics can be measured.
 ///
@@ -154,41 +154,16 @@ fn metric_label(text: &str) -> String {
     text.trim().to_string()
 }
 
-/// Whether `measured` satisfies `comparison` (in `unit`).
-///
-/// Phases (`Unit::Degree`) compare on the circle for `=`, as the language defines.
-// FIXME: rolloff-report evaluates expectations too (`check`); once it exposes the
-// comparison of a number with a bound on its own, call it instead of this copy.
-pub fn comparison_holds(comparison: &Comparison, unit: Unit, measured: f64) -> bool {
-    if !measured.is_finite() {
-        return false;
-    }
-    match *comparison {
-        Comparison::Less(x) => measured < x,
-        Comparison::LessEqual(x) => measured <= x,
-        Comparison::Greater(x) => measured > x,
-        Comparison::GreaterEqual(x) => measured >= x,
-        Comparison::Within { low, high } => (low..=high).contains(&measured),
-        Comparison::Equal { value, deviation } => {
-            let diff = if unit == Unit::Degree {
-                (measured - value + 180.0).rem_euclid(360.0) - 180.0
-            } else {
-                measured - value
-            };
-            let allowed = match deviation {
-                Deviation::Absolute(d) => d.abs(),
-                Deviation::Relative(r) => (r * value).abs(),
-            };
-            // A hair of slack so that a value computed to be exactly on the bound passes.
-            diff.abs() <= allowed * (1.0 + 1e-12) + 1e-300
-        }
-    }
+/// Whether `measured` satisfies the expectation, as `rolloff_report::judge` decides.
+pub fn expectation_holds(expectation: &Expectation, measured: f64) -> bool {
+    measured.is_finite() && rolloff_report::judge(expectation, Ok(measured), expectation.unit).pass
 }
 
 #[cfg(test)]
 #[allow(clippy::unwrap_used, clippy::expect_used)]
 mod tests {
     use super::*;
+    use rolloff_netlist::{Comparison, Deviation, MetricKind, MetricOptions, Span, Target};
 
     #[test]
     fn labels_stop_at_the_metric_call() {
@@ -204,36 +179,32 @@ mod tests {
     }
 
     #[test]
-    fn comparisons() {
-        let eq = Comparison::Equal {
-            value: 100.0,
-            deviation: Deviation::Relative(0.02),
+    fn expectations_are_judged_by_report() {
+        let e = |comparison| Expectation {
+            metric: Metric {
+                kind: MetricKind::Phase { freq: 1.0 },
+                target: Target::Node(rolloff_netlist::NodeId(1)),
+                options: MetricOptions::default(),
+            },
+            comparison,
+            unit: Unit::Degree,
+            text: String::new(),
+            span: Span::default(),
         };
-        assert!(comparison_holds(&eq, Unit::Hertz, 102.0));
-        assert!(!comparison_holds(&eq, Unit::Hertz, 102.1));
-        let phase = Comparison::Equal {
+        let near_180 = e(Comparison::Equal {
             value: 179.0,
             deviation: Deviation::Absolute(3.0),
-        };
-        assert!(comparison_holds(&phase, Unit::Degree, -179.0));
-        assert!(!comparison_holds(&phase, Unit::Hertz, -179.0));
-        let within = Comparison::Within {
-            low: 1.0,
-            high: 2.0,
-        };
-        assert!(comparison_holds(&within, Unit::Volt, 2.0));
-        assert!(!comparison_holds(&within, Unit::Volt, 2.5));
-        assert!(comparison_holds(&Comparison::Less(1.0), Unit::Volt, 0.5));
-        assert!(!comparison_holds(&Comparison::Less(1.0), Unit::Volt, 1.0));
-        assert!(comparison_holds(
-            &Comparison::GreaterEqual(1.0),
-            Unit::Volt,
-            1.0
-        ));
-        assert!(!comparison_holds(
-            &Comparison::Greater(1.0),
-            Unit::Volt,
-            f64::NAN
+        });
+        // Phases compare on the circle (language definition).
+        assert!(expectation_holds(&near_180, -179.0));
+        assert!(!expectation_holds(&near_180, 170.0));
+        assert!(!expectation_holds(&e(Comparison::Less(1.0)), f64::NAN));
+        assert!(expectation_holds(
+            &e(Comparison::Within {
+                low: 1.0,
+                high: 2.0
+            }),
+            2.0
         ));
     }
 }

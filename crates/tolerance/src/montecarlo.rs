@@ -3,7 +3,7 @@
 
 use crate::error::ToleranceError;
 use crate::model::{
-    MetricEntry, Model, TolerancedPart, comparison_holds, expectation_metrics, toleranced_parts,
+    MetricEntry, Model, TolerancedPart, expectation_holds, expectation_metrics, toleranced_parts,
 };
 use crate::sampling::{
     Distribution, Histogram, RNG_NAME, Summary, histogram, run_trials, sample_factor, summarize,
@@ -159,7 +159,7 @@ pub fn monte_carlo<M: Model>(
                 let e = &circuit.expectations[y.expectation];
                 trials[t][y.metric]
                     .as_ref()
-                    .is_ok_and(|&v| comparison_holds(&e.comparison, e.unit, v))
+                    .is_ok_and(|&v| expectation_holds(e, v))
             })
         })
         .count();
@@ -237,10 +237,7 @@ fn yields<M: Model>(
             let e = &circuit.expectations[i];
             let passed = trials
                 .iter()
-                .filter(|t| {
-                    t[k].as_ref()
-                        .is_ok_and(|&v| comparison_holds(&e.comparison, e.unit, v))
-                })
+                .filter(|t| t[k].as_ref().is_ok_and(|&v| expectation_holds(e, v)))
                 .count();
             ExpectationYield {
                 expectation: i,
