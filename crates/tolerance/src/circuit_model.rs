@@ -6,7 +6,7 @@ use crate::model::Model;
 use num_complex::Complex64;
 use rolloff_mna::{Analyzer, MnaError};
 use rolloff_netlist::{Circuit, Metric, MetricKind, MetricOptions, PartId, ProbeKind, Target};
-use rolloff_report::{MetricError, ReportError, ResponseSource, measure_response};
+use rolloff_report::{Analysis, MetricError, ReportError, ResponseSource, measure_response};
 use std::sync::Arc;
 
 /// A circuit model backed by the MNA solver.
@@ -80,6 +80,67 @@ impl Model for CircuitModel {
         measure_metric(&mut self.analyzer, &self.nominal, metric, &self.freqs)
             .map_err(|e| e.to_string())
     }
+
+    /// Sweeps each distinct response once: metrics on the same probe share one
+    /// `rolloff_report::Analysis`, and `bias` metrics one DC solve.
+    fn measure_many(&mut self, metrics: &[Metric]) -> Vec<Result<f64, String>> {
+        let mut out: Vec<Option<Result<f64, String>>> = vec![None; metrics.len()];
+        let mut bias_report: Option<Result<rolloff_mna::BiasReport, MnaError>> = None;
+        for i in 0..metrics.len() {
+            if out[i].is_some() {
+                continue;
+            }
+            if metrics[i].kind == MetricKind::Bias {
+                let report = bias_report.get_or_insert_with(|| self.analyzer.bias());
+                out[i] = Some(match report {
+                    Ok(r) => {
+                        bias_value(r, &self.nominal, metrics[i].target).map_err(|e| e.to_string())
+                    }
+                    Err(e) => Err(e.to_string()),
+                });
+                continue;
+            }
+            let probe = match response_of(&self.nominal, &metrics[i]) {
+                Ok(p) => p,
+                Err(e) => {
+                    out[i] = Some(Err(e.to_string()));
+                    continue;
+                }
+            };
+            // Every later metric on the same probe is measured on this analysis.
+            let group: Vec<usize> = (i..metrics.len())
+                .filter(|&j| {
+                    out[j].is_none()
+                        && metrics[j].kind != MetricKind::Bias
+                        && response_of(&self.nominal, &metrics[j]).ok().as_ref() == Some(&probe)
+                })
+                .collect();
+            let mut source = SolverSource {
+                analyzer: &mut self.analyzer,
+                probe: probe.0.clone(),
+            };
+            match Analysis::new(&mut source, &self.freqs) {
+                Ok(mut analysis) => {
+                    for j in group {
+                        let options = options_of(&metrics[j], probe.1);
+                        out[j] = Some(
+                            analysis
+                                .metric(metrics[j].kind, &options)
+                                .map_err(|e| e.to_string()),
+                        );
+                    }
+                }
+                Err(e) => {
+                    for j in group {
+                        out[j] = Some(Err(MetricError::from(e.clone()).to_string()));
+                    }
+                }
+            }
+        }
+        out.into_iter()
+            .map(|r| r.unwrap_or_else(|| Err("not measured".to_string())))
+            .collect()
+    }
 }
 
 /// Why a metric could not be measured on the solver.
@@ -105,36 +166,52 @@ fn measure_metric(
     if metric.kind == MetricKind::Bias {
         return bias(analyzer, circuit, metric.target);
     }
-    let (probe, probe_reference) = match metric.target {
+    let (probe, probe_reference) = response_of(circuit, metric)?;
+    let options = options_of(metric, probe_reference);
+    let mut source = SolverSource { analyzer, probe };
+    Ok(measure_response(&mut source, freqs, metric.kind, &options)?)
+}
+
+/// The probe a (non-bias) metric reads, and the probe's own `ref` frequency.
+fn response_of(circuit: &Circuit, metric: &Metric) -> Result<(ProbeKind, Option<f64>), Failure> {
+    match metric.target {
         Target::Probe(id) => {
             let p = circuit
                 .probes
                 .get(id.index())
                 .ok_or_else(|| Failure::Target(format!("probe #{} does not exist", id.0)))?;
-            (p.kind.clone(), p.reference)
+            Ok((p.kind.clone(), p.reference))
         }
-        Target::Node(n) => (ProbeKind::Node(n), None),
-        Target::Current(p) => (ProbeKind::Current(p), None),
-        Target::Part(p) => {
-            return Err(Failure::Target(format!(
-                "a part (`{}`) is a target for bias only",
-                circuit
-                    .parts
-                    .get(p.index())
-                    .map_or("?", |p| p.name.as_str())
-            )));
-        }
-    };
-    let options = MetricOptions {
+        Target::Node(n) => Ok((ProbeKind::Node(n), None)),
+        Target::Current(p) => Ok((ProbeKind::Current(p), None)),
+        Target::Part(p) => Err(Failure::Target(format!(
+            "a part (`{}`) is a target for bias only",
+            circuit
+                .parts
+                .get(p.index())
+                .map_or("?", |p| p.name.as_str())
+        ))),
+    }
+}
+
+/// The metric's options, with the probe's `ref` when the metric gives none.
+fn options_of(metric: &Metric, probe_reference: Option<f64>) -> MetricOptions {
+    MetricOptions {
         reference: metric.options.reference.or(probe_reference),
         ..metric.options
-    };
-    let mut source = SolverSource { analyzer, probe };
-    Ok(measure_response(&mut source, freqs, metric.kind, &options)?)
+    }
 }
 
 fn bias(analyzer: &mut Analyzer, circuit: &Circuit, target: Target) -> Result<f64, Failure> {
     let report = analyzer.bias()?;
+    bias_value(&report, circuit, target)
+}
+
+fn bias_value(
+    report: &rolloff_mna::BiasReport,
+    circuit: &Circuit,
+    target: Target,
+) -> Result<f64, Failure> {
     let missing = || Failure::Target("no DC value for this target".to_string());
     match target {
         Target::Node(n) => Ok(report.node_voltage(n)),

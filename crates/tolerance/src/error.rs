@@ -29,6 +29,9 @@ pub enum ToleranceError {
         /// What is wrong.
         reason: String,
     },
+    /// A tolerance analysis of a circuit that still has `?` parts.
+    #[error("the value of {} is `?`: fit it first, or write a value", .0.join(", "))]
+    UnfittedParts(Vec<String>),
     /// No part's value is `?`.
     #[error(
         "no part to fit: write `?` (or `? in low .. high`) as the value of the part to solve for"

@@ -27,6 +27,13 @@ pub trait Model: Clone + Send + Sync {
     /// # Errors
     /// The reason, as text, when the metric cannot be found ("no −3 dB crossing …").
     fn measure(&mut self, metric: &Metric) -> Result<f64, String>;
+
+    /// Measures several metrics with the current values, in order. The default calls
+    /// [`Model::measure`] for each; a model may share work between metrics on the same
+    /// response (one sweep per probe) but must give the same values.
+    fn measure_many(&mut self, metrics: &[Metric]) -> Vec<Result<f64, String>> {
+        metrics.iter().map(|m| self.measure(m)).collect()
+    }
 }
 
 /// A part that a tolerance analysis varies.
@@ -96,6 +103,71 @@ pub fn passive_parts(circuit: &Circuit) -> Vec<(PartId, String, f64)> {
             Some((PartId(i as u32), part.name.clone(), value))
         })
         .collect()
+}
+
+/// The names of the parts whose value is `?` (a [`rolloff_netlist::FitRange`] is set).
+pub fn unfitted_parts(circuit: &Circuit) -> Vec<String> {
+    circuit
+        .parts
+        .iter()
+        .filter(|p| {
+            matches!(
+                p.kind,
+                PartKind::Resistor { fit: Some(_), .. }
+                    | PartKind::Capacitor { fit: Some(_), .. }
+                    | PartKind::Inductor { fit: Some(_), .. }
+            )
+        })
+        .map(|p| p.name.clone())
+        .collect()
+}
+
+/// Refuses a circuit with `?` parts (their value is only a start guess).
+pub(crate) fn require_fitted(circuit: &Circuit) -> Result<(), crate::ToleranceError> {
+    let open = unfitted_parts(circuit);
+    if open.is_empty() {
+        Ok(())
+    } else {
+        Err(crate::ToleranceError::UnfittedParts(open))
+    }
+}
+
+/// A copy of `circuit` with a passive part set to `value` and its `?` cleared, e.g. to
+/// run a tolerance analysis on a fitted (or rounded) design.
+///
+/// # Errors
+/// [`crate::ToleranceError::InvalidOption`] when the part is not a resistor, capacitor
+/// or inductor, or the value is not finite and positive.
+pub fn with_part_value(
+    circuit: &Circuit,
+    part: PartId,
+    value: f64,
+) -> Result<Circuit, crate::ToleranceError> {
+    let bad = |reason: String| crate::ToleranceError::InvalidOption {
+        option: "part value",
+        reason,
+    };
+    if !(value.is_finite() && value > 0.0) {
+        return Err(bad(format!("{value:e} is not finite and positive")));
+    }
+    let mut out = circuit.clone();
+    let p = out
+        .parts
+        .get_mut(part.index())
+        .ok_or_else(|| bad(format!("part #{} does not exist", part.0)))?;
+    match &mut p.kind {
+        PartKind::Resistor { value: v, fit, .. }
+        | PartKind::Capacitor { value: v, fit, .. }
+        | PartKind::Inductor { value: v, fit, .. } => {
+            *v = value;
+            *fit = None;
+            Ok(out)
+        }
+        _ => Err(bad(format!(
+            "`{}` is not a resistor, capacitor or inductor",
+            p.name
+        ))),
+    }
 }
 
 /// How a part's value combines when two parts replace it (for two-part fits).

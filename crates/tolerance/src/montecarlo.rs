@@ -8,7 +8,7 @@ use crate::model::{
 use crate::sampling::{
     Distribution, Histogram, RNG_NAME, Summary, histogram, run_trials, sample_factor, summarize,
 };
-use rolloff_netlist::Tolerance;
+use rolloff_netlist::{Metric, Tolerance};
 
 /// Options of [`monte_carlo`].
 #[derive(Debug, Clone, PartialEq)]
@@ -111,17 +111,15 @@ pub fn monte_carlo<M: Model>(
     pool: Option<&rayon::ThreadPool>,
 ) -> Result<MonteCarloReport, ToleranceError> {
     validate(options)?;
+    crate::model::require_fitted(model.circuit())?;
     let circuit = model.circuit();
     let entries = expectation_metrics(circuit);
     if entries.is_empty() {
         return Err(ToleranceError::NoMetrics);
     }
     let parts = toleranced_parts(circuit, options.default_tolerance);
-    let mut nominal_model = model.clone();
-    let nominal: Vec<Result<f64, String>> = entries
-        .iter()
-        .map(|e| nominal_model.measure(&e.metric))
-        .collect();
+    let metrics: Vec<Metric> = entries.iter().map(|e| e.metric).collect();
+    let nominal = model.clone().measure_many(&metrics);
 
     let trials = run_trials(
         options.runs,
@@ -138,10 +136,7 @@ pub fn monte_carlo<M: Model>(
                         reason,
                     })?;
             }
-            Ok(entries
-                .iter()
-                .map(|e| m.measure(&e.metric))
-                .collect::<Vec<_>>())
+            Ok(m.measure_many(&metrics))
         },
     );
     let trials: Vec<Vec<Result<f64, String>>> = trials.into_iter().collect::<Result<_, _>>()?;

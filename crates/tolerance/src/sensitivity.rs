@@ -14,7 +14,7 @@
 use crate::error::ToleranceError;
 use crate::model::{MetricEntry, Model, expectation_metrics, passive_parts};
 use crate::sampling::run_trials;
-use rolloff_netlist::PartId;
+use rolloff_netlist::{Metric, PartId};
 
 /// Options of [`sensitivity`].
 #[derive(Debug, Clone, PartialEq)]
@@ -81,6 +81,7 @@ pub fn sensitivity<M: Model>(
     options: &SensitivityOptions,
     pool: Option<&rayon::ThreadPool>,
 ) -> Result<SensitivityReport, ToleranceError> {
+    crate::model::require_fitted(model.circuit())?;
     let entries = expectation_metrics(model.circuit());
     if entries.is_empty() {
         return Err(ToleranceError::NoMetrics);
@@ -168,16 +169,15 @@ pub(crate) fn sensitivity_table<M: Model>(
             reason: format!("{log_step} is not in (0, 0.1]"),
         });
     }
-    let mut nominal_model = model.clone();
+    let metrics: Vec<Metric> = entries.iter().map(|e| e.metric).collect();
     let nominal: Vec<f64> = entries
         .iter()
-        .map(|e| {
-            nominal_model
-                .measure(&e.metric)
-                .map_err(|reason| ToleranceError::Nominal {
-                    metric: e.label.clone(),
-                    reason,
-                })
+        .zip(model.clone().measure_many(&metrics))
+        .map(|(e, measured)| {
+            measured.map_err(|reason| ToleranceError::Nominal {
+                metric: e.label.clone(),
+                reason,
+            })
         })
         .collect::<Result<_, _>>()?;
     // Work item 2i steps part i up, 2i + 1 steps it down; each restores the part after.
@@ -199,9 +199,10 @@ pub(crate) fn sensitivity_table<M: Model>(
                     })
             };
             set(m, stepped)?;
-            let measured: Vec<Option<f64>> = entries
-                .iter()
-                .map(|e| m.measure(&e.metric).ok().filter(|v| v.is_finite()))
+            let measured: Vec<Option<f64>> = m
+                .measure_many(&metrics)
+                .into_iter()
+                .map(|r| r.ok().filter(|v| v.is_finite()))
                 .collect();
             set(m, *value)?;
             Ok::<_, ToleranceError>(measured)

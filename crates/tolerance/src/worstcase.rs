@@ -130,6 +130,7 @@ pub fn worst_case<M: Model>(
     if let Some(band) = options.default_tolerance {
         crate::check_band(band, "default_tolerance")?;
     }
+    crate::model::require_fitted(model.circuit())?;
     let entries = expectation_metrics(model.circuit());
     if entries.is_empty() {
         return Err(ToleranceError::NoMetrics);
@@ -229,6 +230,7 @@ fn evaluate_corners<M: Model>(
     corners: &[Vec<Corner>],
     pool: Option<&rayon::ThreadPool>,
 ) -> Result<Vec<Vec<Option<f64>>>, ToleranceError> {
+    let metrics: Vec<rolloff_netlist::Metric> = entries.iter().map(|e| e.metric).collect();
     run_trials(
         corners.len(),
         0,
@@ -247,9 +249,9 @@ fn evaluate_corners<M: Model>(
                         reason,
                     })?;
             }
-            Ok(entries
-                .iter()
-                .map(|e| m.measure(&e.metric).ok().filter(|v| v.is_finite()))
+            Ok(m.measure_many(&metrics)
+                .into_iter()
+                .map(|r| r.ok().filter(|v| v.is_finite()))
                 .collect())
         },
     )

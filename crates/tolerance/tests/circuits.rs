@@ -245,3 +245,75 @@ fn rc_cutoff_sensitivity_is_minus_one() {
     let fc = report.metrics[0].nominal;
     assert!((r.derivative.unwrap() / (-fc / 10e3) - 1.0).abs() < 1e-5);
 }
+
+#[test]
+fn measuring_together_gives_the_same_values_as_one_by_one() {
+    let text = "\
+vsrc      V1 (in, gnd) 1 V bias 5 V
+resistor  R1 (in, mid) 4.7k tol 1%
+capacitor C1 (mid, gnd) 22 nF tol 5%
+resistor  R2 (mid, out) 10k tol 1%
+capacitor C2 (out, gnd) 4.7 nF
+probe out ref 1 mHz
+probe mid
+expect cutoff(out) within 500 .. 2000 Hz
+expect gain(out, 1 kHz) >= -10 dB
+expect cutoff(mid) within 100 Hz .. 10 kHz
+expect phase(out, 1 kHz) within -180 .. 0 deg
+expect bias(out) within 4 .. 6 V
+";
+    let mut together = model(text);
+    let mut alone = together.clone();
+    let metrics: Vec<_> = together
+        .circuit()
+        .expectations
+        .iter()
+        .map(|e| e.metric)
+        .collect();
+    let many = together.measure_many(&metrics);
+    let single: Vec<_> = metrics.iter().map(|m| alone.measure(m)).collect();
+    assert_eq!(many, single);
+    assert!(many.iter().all(Result::is_ok), "{many:?}");
+    // With no load on the DC path the bias of `out` is the source's 5 V.
+    assert!((many[4].clone().unwrap() - 5.0).abs() < 1e-9);
+}
+
+#[test]
+fn a_fitted_design_goes_on_to_monte_carlo() {
+    let text = "vsrc V1 (in, gnd) 1 V\n\
+                resistor R1 (in, out) ? in 1k .. 1M tol 1%\n\
+                capacitor C1 (out, gnd) 10 nF tol 5%\n\
+                probe out ref 1 mHz\n\
+                expect cutoff(out) = 2 kHz\n";
+    let open = model(text);
+    let options = MonteCarloOptions {
+        runs: 50,
+        ..MonteCarloOptions::default()
+    };
+    assert_eq!(
+        monte_carlo(&open, &options, None).unwrap_err(),
+        rolloff_tolerance::ToleranceError::UnfittedParts(vec!["R1".into()])
+    );
+    let fitted = fit(&open, &FitOptions::default()).unwrap();
+    let rounded = fitted
+        .standard
+        .iter()
+        .find(|c| c.nearest)
+        .unwrap()
+        .value
+        .value;
+    let design =
+        rolloff_tolerance::model::with_part_value(open.circuit(), fitted.part, rounded).unwrap();
+    let report = monte_carlo(&CircuitModel::new(&design).unwrap(), &options, None).unwrap();
+    let nominal = report.metrics[0].nominal.clone().unwrap();
+    let expected = fitted
+        .standard
+        .iter()
+        .find(|c| c.nearest)
+        .unwrap()
+        .metric
+        .clone()
+        .unwrap();
+    assert!((nominal / expected - 1.0).abs() < 1e-12);
+    assert_eq!(report.parts.len(), 2);
+}
