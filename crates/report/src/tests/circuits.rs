@@ -381,3 +381,58 @@ fn snapshot_rejects_bad_json() {
         "bad snapshot: snapshot format 9 is not the supported format 1"
     );
 }
+
+#[test]
+fn target_unit_and_solver_failures_are_reasons() {
+    // No AC source: every AC metric fails with the solver's reason.
+    let circuit = Circuit::builder()
+        .resistor("R1", "a", "gnd", 1e3)
+        .isrc("I1", "gnd", "a", 1.0)
+        .build()
+        .unwrap();
+    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let cutoff = metric(&circuit, MetricKind::Cutoff, "a", None);
+    let mut dc = circuit.clone();
+    dc.parts[1].kind = rolloff_netlist::PartKind::CurrentSource {
+        from: rolloff_netlist::NodeId::GND,
+        to: circuit.node("a").unwrap(),
+        amplitude: None,
+        phase_deg: 0.0,
+        bias: Some(1e-3),
+        rp: None,
+    };
+    let mut dc_analyzer = Analyzer::new(&dc).unwrap();
+    let e = measure(&mut dc_analyzer, &cutoff, &[1.0, 10.0]).unwrap_err();
+    assert_eq!(
+        e.to_string(),
+        "the circuit has no AC source (a vsrc or isrc with an amplitude) to drive it"
+    );
+    // 1 mA into 1 kΩ: 1 V of bias.
+    let v = bias(&mut dc_analyzer, Target::Node(dc.node("a").unwrap())).unwrap();
+    assert!((v - 1.0).abs() < 1e-12);
+    // An AC metric on a part target.
+    let on_part = Metric {
+        target: Target::Part(circuit.part("R1").unwrap()),
+        ..cutoff
+    };
+    assert_eq!(
+        measure(&mut analyzer, &on_part, &[1.0, 10.0])
+            .unwrap_err()
+            .to_string(),
+        "`R1` is a part; AC metrics are measured on a node, a probe or `current R1`"
+    );
+    // A unit that does not fit the metric fails the verdict.
+    let expectation = rolloff_netlist::Expectation {
+        metric: cutoff,
+        comparison: rolloff_netlist::Comparison::Less(3.0),
+        unit: rolloff_netlist::Unit::Decibel,
+        text: "cutoff(a) < 3 dB".into(),
+        span: rolloff_netlist::Span::default(),
+    };
+    let v = judge(&expectation, Ok(100.0), rolloff_netlist::Unit::Hertz);
+    assert!(!v.pass);
+    assert_eq!(
+        v.to_string(),
+        "FAIL: cutoff(a) < 3 dB (cutoff is measured in Hz, but the expectation is written in dB)"
+    );
+}
