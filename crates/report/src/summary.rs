@@ -210,6 +210,19 @@ pub fn measure_response(
     kind: MetricKind,
     options: &MetricOptions,
 ) -> Result<f64, MetricError> {
-    let mut analysis = Analysis::new(source, freqs)?;
+    // Spot metrics that need no sweep are evaluated at their own frequencies only (the
+    // phase needs the sweep to be unwrapped along).
+    let spot = match kind {
+        MetricKind::Gain { freq }
+        | MetricKind::GroupDelay { freq }
+        | MetricKind::Impedance { freq } => Some(vec![freq]),
+        MetricKind::Slope { f1, f2 } => Some(vec![f1, f2]),
+        _ => None,
+    };
+    let points = match spot {
+        Some(points) if points.iter().all(|f| f.is_finite() && *f > 0.0) => points,
+        _ => freqs.to_vec(),
+    };
+    let mut analysis = Analysis::new(source, &points)?;
     analysis.metric(kind, options)
 }
