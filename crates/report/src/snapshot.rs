@@ -258,7 +258,14 @@ impl std::fmt::Display for Finding {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         let value =
             |v: Option<f64>| v.map_or_else(|| "none".to_string(), |v| fmt_value(v, self.unit));
-        write!(f, "{} {}", self.probe, self.quantity)?;
+        if self.probe.is_empty() {
+            f.write_str(&self.quantity)?;
+        } else {
+            write!(f, "{} {}", self.probe, self.quantity)?;
+        }
+        if self.actual.is_none() && self.expected.is_none() {
+            return Ok(());
+        }
         if let Some(at) = self.at_hz {
             write!(f, " at {}", fmt_hz(at))?;
         }

@@ -363,6 +363,22 @@ fn snapshot_round_trip_and_a_one_percent_change_is_caught() {
     assert!((gain.deviation.unwrap() - 20.0 * 1.01f64.log10()).abs() < 1e-3);
     assert!(gain.at_hz.unwrap() < 2.0);
     assert!(gain.to_string().starts_with("out gain at 1 Hz: "));
+
+    // Another sweep or another set of probes is a failure by itself.
+    let mut other = back.clone();
+    other.frequencies_hz.pop();
+    other.probes.pop();
+    let now = take_snapshot(&mut analyzer, &freqs, None);
+    let report = compare_snapshots(&other, &now, &Thresholds::default());
+    let text: Vec<String> = report.failures().map(ToString::to_string).collect();
+    assert!(
+        text.contains(&"sweep frequencies differ".to_string()),
+        "{text:?}"
+    );
+    assert!(
+        text.contains(&"zin probe not in the snapshot".to_string()),
+        "{text:?}"
+    );
 }
 
 #[test]
