@@ -10,7 +10,7 @@
 use crate::analysis::Analysis;
 use crate::format::{fmt_hz, fmt_value};
 use crate::numeric::circular_difference;
-use crate::{ReportError, ResponseSource, analyze};
+use crate::{ReportError, ResponseSource, SampledResponse, analyze};
 use rolloff_netlist::Unit;
 use serde::{Deserialize, Serialize};
 
@@ -84,6 +84,35 @@ impl Snapshot {
             )));
         }
         Ok(snapshot)
+    }
+}
+
+impl Snapshot {
+    /// A probe's stored curves as a [`SampledResponse`], so metrics can be measured on a
+    /// snapshot as on any measured data (points without a value are left out).
+    ///
+    /// # Errors
+    /// [`ReportError::BadArgument`] when no probe has that name, or
+    /// [`ReportError::BadSamples`] when fewer than two points have values.
+    pub fn response(&self, probe: &str) -> Result<SampledResponse, ReportError> {
+        let p = self
+            .probes
+            .iter()
+            .find(|p| p.name == probe)
+            .ok_or_else(|| {
+                ReportError::BadArgument(format!("the snapshot has no probe `{probe}`"))
+            })?;
+        let mut freqs = Vec::new();
+        let mut gains = Vec::new();
+        let mut phases = Vec::new();
+        for ((f, g), ph) in self.frequencies_hz.iter().zip(&p.gain_db).zip(&p.phase_deg) {
+            if let (Some(g), Some(ph)) = (g, ph) {
+                freqs.push(*f);
+                gains.push(*g);
+                phases.push(*ph);
+            }
+        }
+        SampledResponse::from_db_deg(freqs, gains, phases)
     }
 }
 

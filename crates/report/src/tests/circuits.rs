@@ -335,6 +335,21 @@ fn snapshot_round_trip_and_a_one_percent_change_is_caught() {
     let back = Snapshot::from_json(&json).unwrap();
     assert_eq!(back, snapshot);
 
+    // Metrics on the stored curves, as on measured data: the cutoff interpolated between
+    // samples 1/40 decade apart lies within 0.1 % of the solver's.
+    let mut stored = back.response("out").unwrap();
+    let summary = analyze(&mut stored, &freqs, None).unwrap();
+    let solved = snapshot.probes[0]
+        .metrics
+        .iter()
+        .find(|m| m.name == "cutoff")
+        .unwrap();
+    assert!(rel(summary.cutoffs[0].freq_hz, solved.value) < 1e-3);
+    assert_eq!(
+        back.response("nope").unwrap_err().to_string(),
+        "the snapshot has no probe `nope`"
+    );
+
     // The same circuit compares clean.
     let same = compare(&mut analyzer, &back, &Thresholds::default());
     assert!(same.pass(), "{:?}", same.failures().collect::<Vec<_>>());
