@@ -22,7 +22,44 @@ use crate::syntax::{
 use crate::units::{
     AMPERE, DIMENSIONLESS, Dim, FARAD, HENRY, HERTZ, OHM, SECOND, SIEMENS, VOLT, format_number,
 };
+use std::borrow::Cow;
 use std::collections::{HashMap, HashSet};
+use std::hash::{BuildHasherDefault, Hasher};
+
+/// FNV-1a: names are short and not adversarial, and SipHash showed up in profiles of
+/// 100 000-part files.
+struct Fnv(u64);
+
+impl Default for Fnv {
+    fn default() -> Self {
+        Fnv(0xcbf2_9ce4_8422_2325)
+    }
+}
+
+impl Hasher for Fnv {
+    fn write(&mut self, bytes: &[u8]) {
+        for &b in bytes {
+            self.0 ^= u64::from(b);
+            self.0 = self.0.wrapping_mul(0x0100_0000_01b3);
+        }
+    }
+
+    fn finish(&self) -> u64 {
+        self.0
+    }
+}
+
+/// The name tables' map type.
+type Map<K, V> = HashMap<K, V, BuildHasherDefault<Fnv>>;
+
+/// `prefix + name` without allocating at the top level.
+fn qualify<'n>(prefix: &str, name: &'n str) -> Cow<'n, str> {
+    if prefix.is_empty() {
+        Cow::Borrowed(name)
+    } else {
+        Cow::Owned(format!("{prefix}{name}"))
+    }
+}
 
 /// A value with its dimension.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -86,16 +123,16 @@ pub(crate) fn elaborate(
     let mut e = Elaborator {
         source,
         diags: diagnostics,
-        lets: HashMap::new(),
+        lets: Map::default(),
         let_order: Vec::new(),
         blocks: HashMap::new(),
-        names: HashMap::new(),
+        names: Map::default(),
         nodes: vec!["gnd".into()],
-        node_index: HashMap::from([("gnd".to_string(), NodeId::GND)]),
+        node_index: std::iter::once(("gnd".to_string(), NodeId::GND)).collect(),
         node_span: vec![Span::default()],
         node_connections: vec![0],
         parts: Vec::new(),
-        part_index: HashMap::new(),
+        part_index: Map::default(),
         part_name_span: Vec::new(),
         bad_blocks: HashSet::new(),
         failed_parts: HashSet::new(),
@@ -109,16 +146,16 @@ pub(crate) fn elaborate(
 struct Elaborator<'a> {
     source: &'a str,
     diags: &'a mut Vec<Diagnostic>,
-    lets: HashMap<String, LetBinding>,
+    lets: Map<String, LetBinding>,
     let_order: Vec<String>,
     blocks: HashMap<String, &'a BlockDef>,
-    names: HashMap<String, (NameKind, Span)>,
+    names: Map<String, (NameKind, Span)>,
     nodes: Vec<String>,
-    node_index: HashMap<String, NodeId>,
+    node_index: Map<String, NodeId>,
     node_span: Vec<Span>,
     node_connections: Vec<u32>,
     parts: Vec<Part>,
-    part_index: HashMap<String, PartId>,
+    part_index: Map<String, PartId>,
     part_name_span: Vec<Span>,
     bad_blocks: HashSet<String>,
     failed_parts: HashSet<String>,
@@ -142,6 +179,14 @@ impl<'a> Elaborator<'a> {
     }
 
     fn run(&mut self, statements: &'a [Stmt], overrides: &[(String, Expr, String)]) -> Circuit {
+        let n = statements.len();
+        self.names.reserve(2 * n);
+        self.node_index.reserve(n);
+        self.part_index.reserve(n);
+        self.parts.reserve(n);
+        self.nodes.reserve(n);
+        self.node_span.reserve(n);
+        self.node_connections.reserve(n);
         let mut title = None;
         for stmt in statements {
             if let StmtKind::Block(def) = &stmt.kind {
@@ -167,13 +212,12 @@ impl<'a> Elaborator<'a> {
                 _ => {}
             }
         }
+        self.renumber_nodes();
         let mut circuit = Circuit {
             title,
-            nodes: std::mem::take(&mut self.nodes),
             parts: std::mem::take(&mut self.parts),
             ..Circuit::default()
         };
-        self.nodes.clone_from(&circuit.nodes);
         if circuit.parts.is_empty() && !self.diags.iter().any(Diagnostic::is_error) {
             let end = self.source.len();
             self.error(
@@ -184,9 +228,61 @@ impl<'a> Elaborator<'a> {
             .expected = Some("expected at least one part (`resistor`, `vsrc`, …)".into());
         }
         self.analyses(statements, &mut circuit);
-        self.graph_checks(&circuit);
+        self.graph_checks(&circuit.parts);
         self.unused_lets();
+        circuit.nodes = std::mem::take(&mut self.nodes);
+        let texts: Vec<String> = circuit
+            .expectations
+            .iter()
+            .map(|e| crate::print::expectation_text(&circuit, e))
+            .collect();
+        for (e, text) in circuit.expectations.iter_mut().zip(texts) {
+            e.text = text;
+        }
         circuit
+    }
+
+    /// Numbers the nodes in order of first mention by the parts (as the flat, printed
+    /// form would), so a circuit and its printed text agree on every `NodeId`. Nodes no
+    /// part mentions keep their relative order at the end.
+    fn renumber_nodes(&mut self) {
+        let n = self.nodes.len();
+        let mut new_id = vec![u32::MAX; n];
+        new_id[0] = 0;
+        let mut next = 1u32;
+        for part in &self.parts {
+            for node in part.kind.nodes() {
+                if new_id[node.index()] == u32::MAX {
+                    new_id[node.index()] = next;
+                    next += 1;
+                }
+            }
+        }
+        for id in &mut new_id {
+            if *id == u32::MAX {
+                *id = next;
+                next += 1;
+            }
+        }
+        let map = |id: &mut NodeId| *id = NodeId(new_id[id.index()]);
+        for part in &mut self.parts {
+            for_each_node(&mut part.kind, map);
+        }
+        let mut nodes = vec![String::new(); n];
+        let mut spans = vec![Span::default(); n];
+        let mut connections = vec![0; n];
+        for (old, &new) in new_id.iter().enumerate() {
+            let new = new as usize;
+            nodes[new] = std::mem::take(&mut self.nodes[old]);
+            spans[new] = self.node_span[old];
+            connections[new] = self.node_connections[old];
+        }
+        for id in self.node_index.values_mut() {
+            map(id);
+        }
+        self.nodes = nodes;
+        self.node_span = spans;
+        self.node_connections = connections;
     }
 
     // ------------------------------------------------------------ names
@@ -281,10 +377,21 @@ impl<'a> Elaborator<'a> {
     /// Evaluates an expression; `None` (with a diagnostic) when it has no value.
     fn eval(&mut self, e: &Expr, scope: &Scope) -> Option<Quantity> {
         let q = match &e.kind {
-            ExprKind::Number(lit) => Quantity {
-                value: lit.value().ok()?,
-                dim: lit.dim(),
-            },
+            ExprKind::Number(lit) => {
+                let Ok(value) = lit.value() else {
+                    self.error(
+                        DiagnosticKind::NumberRange,
+                        e.span,
+                        "the number is out of range for a 64-bit float",
+                    )
+                    .expected = Some("out of range (about 1e-308 to 1e308)".into());
+                    return None;
+                };
+                Quantity {
+                    value,
+                    dim: lit.dim(),
+                }
+            }
             ExprKind::Pi => Quantity {
                 value: std::f64::consts::PI,
                 dim: Dim::Si(DIMENSIONLESS),
@@ -556,11 +663,12 @@ impl<'a> Elaborator<'a> {
             self.node_connections[n.index()] += 1;
             return n;
         }
-        let qualified = format!("{}{}", scope.prefix, id.name);
-        if let Some(&n) = self.node_index.get(&qualified) {
+        let qualified = qualify(&scope.prefix, &id.name);
+        if let Some(&n) = self.node_index.get(qualified.as_ref()) {
             self.node_connections[n.index()] += 1;
             return n;
         }
+        let qualified = qualified.into_owned();
         if let Some(&(kind, _)) = self.names.get(&qualified) {
             self.error(
                 DiagnosticKind::Duplicate,
@@ -587,7 +695,7 @@ impl<'a> Elaborator<'a> {
     }
 
     fn add_part(&mut self, p: &PartStmt, span: Span, scope: &Scope) {
-        let name = format!("{}{}", scope.prefix, p.name.name);
+        let name = qualify(&scope.prefix, &p.name.name).into_owned();
         let nodes: Vec<NodeId> = p.nodes.iter().map(|n| self.node_id(n, scope)).collect();
         let from: Vec<NodeId> = p.from.iter().map(|n| self.node_id(n, scope)).collect();
         if nodes.len() != p.keyword.n_nodes()
@@ -606,11 +714,21 @@ impl<'a> Elaborator<'a> {
             self.error(
                 DiagnosticKind::PinCount,
                 at,
-                format!(
-                    "a `{}` connects {want}; this one has {}",
-                    p.keyword.word(),
-                    nodes.len() + from.len()
-                ),
+                if p.keyword.has_from() {
+                    format!(
+                        "{} `{}` connects {want}; this one has {} and {}",
+                        article(p.keyword.word()),
+                        p.keyword.word(),
+                        nodes.len(),
+                        from.len()
+                    )
+                } else {
+                    format!(
+                        "a `{}` connects {want}; this one has {}",
+                        p.keyword.word(),
+                        nodes.len()
+                    )
+                },
             )
             .expected = Some(format!("expected {want}"));
             return;
@@ -1239,14 +1357,6 @@ impl<'a> Elaborator<'a> {
                 circuit.expectations.push(e);
             }
         }
-        let texts: Vec<String> = circuit
-            .expectations
-            .iter()
-            .map(|e| crate::print::expectation_text(circuit, e))
-            .collect();
-        for (e, text) in circuit.expectations.iter_mut().zip(texts) {
-            e.text = text;
-        }
     }
 
     fn resolve_drive(&mut self, n: &Ident, circuit: &Circuit) -> Option<PartId> {
@@ -1759,10 +1869,11 @@ impl<'a> Elaborator<'a> {
 
     // ------------------------------------------------------------ checks
 
-    fn graph_checks(&mut self, circuit: &Circuit) {
-        let n = circuit.nodes.len();
+    fn graph_checks(&mut self, parts: &[Part]) {
+        let nodes = std::mem::take(&mut self.nodes);
+        let n = nodes.len();
         let mut parent: Vec<u32> = (0..n as u32).collect();
-        for part in &circuit.parts {
+        for part in parts {
             for (a, b) in conductive_pairs(&part.kind) {
                 union(&mut parent, a.0, b.0);
             }
@@ -1778,11 +1889,7 @@ impl<'a> Elaborator<'a> {
         let mut groups: Vec<Vec<usize>> = groups.into_values().collect();
         groups.sort_by_key(|g| g[0]);
         for group in groups {
-            let names: Vec<&str> = group
-                .iter()
-                .take(6)
-                .map(|&i| circuit.nodes[i].as_str())
-                .collect();
+            let names: Vec<&str> = group.iter().take(6).map(|&i| nodes[i].as_str()).collect();
             let message = if group.len() == 1 {
                 format!("node `{}` has no path to `gnd` through any part", names[0])
             } else {
@@ -1810,7 +1917,7 @@ impl<'a> Elaborator<'a> {
             if self.node_connections[node] != 1 {
                 continue;
             }
-            let name = &circuit.nodes[node];
+            let name = &nodes[node];
             let mut d = Diagnostic::warning(
                 DiagnosticKind::SingleConnection,
                 self.node_span[node],
@@ -1819,8 +1926,7 @@ impl<'a> Elaborator<'a> {
             .with_expected("nothing else connects here");
             if suggestions < 50 {
                 suggestions += 1;
-                let others = circuit
-                    .nodes
+                let others = nodes
                     .iter()
                     .enumerate()
                     .filter(|&(i, _)| i != node)
@@ -1831,6 +1937,7 @@ impl<'a> Elaborator<'a> {
             }
             self.diags.push(d);
         }
+        self.nodes = nodes;
     }
 
     fn unused_lets(&mut self) {
@@ -1859,6 +1966,55 @@ impl WithNote for Diagnostic {
         self.expected = Some(expected.into());
         self.notes.push(note);
         self
+    }
+}
+
+/// Applies `f` to every node of a part.
+fn for_each_node(kind: &mut PartKind, f: impl Fn(&mut NodeId)) {
+    match kind {
+        PartKind::Resistor { a, b, .. }
+        | PartKind::Capacitor { a, b, .. }
+        | PartKind::Inductor { a, b, .. } => {
+            f(a);
+            f(b);
+        }
+        PartKind::VoltageSource { pos, neg, .. } => {
+            f(pos);
+            f(neg);
+        }
+        PartKind::CurrentSource { from, to, .. } => {
+            f(from);
+            f(to);
+        }
+        PartKind::Vcvs {
+            out_pos,
+            out_neg,
+            in_pos,
+            in_neg,
+            ..
+        }
+        | PartKind::Vccs {
+            out_pos,
+            out_neg,
+            in_pos,
+            in_neg,
+            ..
+        } => {
+            f(out_pos);
+            f(out_neg);
+            f(in_pos);
+            f(in_neg);
+        }
+        PartKind::OpAmp {
+            out,
+            in_pos,
+            in_neg,
+            ..
+        } => {
+            f(out);
+            f(in_pos);
+            f(in_neg);
+        }
     }
 }
 
@@ -1973,6 +2129,14 @@ pub(crate) fn unit_dim(unit: Unit) -> Dim {
     }
 }
 
+fn article(word: &str) -> &'static str {
+    if word.starts_with(['a', 'e', 'i', 'o', 'u']) {
+        "an"
+    } else {
+        "a"
+    }
+}
+
 fn written_per_octave(e: &Expr) -> bool {
     matches!(&e.kind, ExprKind::Number(l) if l.unit == Some(crate::units::UnitSym::DbPerOctave))
 }
@@ -2043,26 +2207,34 @@ pub(crate) fn similar<'c>(name: &str, candidates: impl Iterator<Item = &'c str>)
     best.map(|(_, c)| c.to_string())
 }
 
-/// Levenshtein distance, giving up (returning `limit + 1`) once it exceeds `limit`.
+/// Edit distance with adjacent transpositions (optimal string alignment), giving up
+/// (returning `limit + 1`) once every path exceeds `limit`.
 fn edit_distance(a: &str, b: &str, limit: usize) -> usize {
     let a: Vec<char> = a.chars().collect();
     let b: Vec<char> = b.chars().collect();
     if a.len().abs_diff(b.len()) > limit {
         return limit + 1;
     }
-    let mut previous: Vec<usize> = (0..=b.len()).collect();
-    for (i, ca) in a.iter().enumerate() {
-        let mut current = vec![i + 1; b.len() + 1];
-        for (j, cb) in b.iter().enumerate() {
-            let cost = usize::from(ca != cb);
-            current[j + 1] = (previous[j] + cost)
-                .min(previous[j + 1] + 1)
-                .min(current[j] + 1);
+    let width = b.len() + 1;
+    let mut rows = vec![vec![0usize; width]; a.len() + 1];
+    for (j, cell) in rows[0].iter_mut().enumerate() {
+        *cell = j;
+    }
+    for i in 1..=a.len() {
+        rows[i][0] = i;
+        for j in 1..=b.len() {
+            let cost = usize::from(a[i - 1] != b[j - 1]);
+            let mut d = (rows[i - 1][j - 1] + cost)
+                .min(rows[i - 1][j] + 1)
+                .min(rows[i][j - 1] + 1);
+            if i > 1 && j > 1 && a[i - 1] == b[j - 2] && a[i - 2] == b[j - 1] {
+                d = d.min(rows[i - 2][j - 2] + 1);
+            }
+            rows[i][j] = d;
         }
-        if current.iter().min().copied().unwrap_or(0) > limit {
+        if rows[i].iter().min().copied().unwrap_or(0) > limit {
             return limit + 1;
         }
-        previous = current;
     }
-    previous[b.len()]
+    rows[a.len()][b.len()]
 }

@@ -298,6 +298,8 @@ pub(crate) struct Literal {
     pub prefix: Option<i64>,
     /// The unit, if written (`R` codes imply Ω).
     pub unit: Option<UnitSym>,
+    /// The value, once computed by [`Literal::cache`].
+    pub cached: Option<f64>,
 }
 
 /// Why a literal has no finite value.
@@ -313,6 +315,21 @@ impl Literal {
     /// The value in SI units (a percentage as a fraction, dB/oct as dB/dec), rounded
     /// once from the decimal text, so `4k7`, `4.7k` and `4700` are the same number.
     pub(crate) fn value(&self) -> Result<f64, LiteralError> {
+        if let Some(v) = self.cached {
+            return Ok(v);
+        }
+        self.compute()
+    }
+
+    /// Stores the value, so later reads need no parsing.
+    pub(crate) fn cache(&mut self) -> Result<f64, LiteralError> {
+        self.cached = None;
+        let v = self.compute()?;
+        self.cached = Some(v);
+        Ok(v)
+    }
+
+    fn compute(&self) -> Result<f64, LiteralError> {
         let mut exponent = self.exponent.saturating_add(self.prefix.unwrap_or(0));
         if self.unit == Some(UnitSym::Percent) {
             exponent = exponent.saturating_sub(2);
@@ -352,33 +369,42 @@ pub(crate) fn format_number(value: f64) -> String {
     }
 }
 
-/// Formats `value` with an SI prefix where it reads back exactly (`4.7k`, `100n`),
-/// else as [`format_number`]. Returns the number and the prefix text.
+/// Formats `value` with an SI prefix (`4.7k`, `100n`), moving the decimal point of its
+/// shortest exact text, so it reads back to exactly the same float. Returns the
+/// number and the prefix text.
 pub(crate) fn format_prefixed(value: f64) -> (String, &'static str) {
-    const PREFIXES: [(i32, &str); 9] = [
-        (-15, "f"),
-        (-12, "p"),
-        (-9, "n"),
-        (-6, "u"),
-        (-3, "m"),
-        (0, ""),
-        (3, "k"),
-        (6, "M"),
-        (9, "G"),
-    ];
     if value == 0.0 || !value.is_finite() {
         return (format_number(value), "");
     }
-    let exp3 = ((value.abs().log10() / 3.0).floor() as i32 * 3).clamp(-15, 9);
-    for &(e, p) in &PREFIXES {
-        if e != exp3 {
-            continue;
-        }
-        let mantissa = value / 10f64.powi(e);
-        let text = format!("{mantissa}");
-        if !text.contains('e') && format!("{text}e{e}").parse::<f64>().ok() == Some(value) {
-            return (text, p);
-        }
+    let sci = format!("{:e}", value.abs());
+    let Some((mantissa, exp)) = sci.split_once('e') else {
+        return (format_number(value), "");
+    };
+    let Ok(exp) = exp.parse::<i32>() else {
+        return (format_number(value), "");
+    };
+    let exp3 = exp.div_euclid(3) * 3;
+    let prefix = match exp3 {
+        -15 => "f",
+        -12 => "p",
+        -9 => "n",
+        -6 => "u",
+        -3 => "m",
+        0 => "",
+        3 => "k",
+        6 => "M",
+        9 => "G",
+        _ => return (format_number(value), ""),
+    };
+    let digits: String = mantissa.chars().filter(char::is_ascii_digit).collect();
+    let point = 1 + (exp - exp3) as usize;
+    let mut text = if digits.len() > point {
+        format!("{}.{}", &digits[..point], &digits[point..])
+    } else {
+        format!("{digits}{}", "0".repeat(point - digits.len()))
+    };
+    if value < 0.0 {
+        text.insert(0, '-');
     }
-    (format_number(value), "")
+    (text, prefix)
 }

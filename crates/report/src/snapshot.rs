@@ -10,7 +10,7 @@
 use crate::analysis::Analysis;
 use crate::format::{fmt_hz, fmt_value};
 use crate::numeric::circular_difference;
-use crate::{ReportError, ResponseSource, analyze};
+use crate::{ReportError, ResponseSource, SampledResponse, analyze};
 use rolloff_netlist::Unit;
 use serde::{Deserialize, Serialize};
 
@@ -87,6 +87,35 @@ impl Snapshot {
     }
 }
 
+impl Snapshot {
+    /// A probe's stored curves as a [`SampledResponse`], so metrics can be measured on a
+    /// snapshot as on any measured data (points without a value are left out).
+    ///
+    /// # Errors
+    /// [`ReportError::BadArgument`] when no probe has that name, or
+    /// [`ReportError::BadSamples`] when fewer than two points have values.
+    pub fn response(&self, probe: &str) -> Result<SampledResponse, ReportError> {
+        let p = self
+            .probes
+            .iter()
+            .find(|p| p.name == probe)
+            .ok_or_else(|| {
+                ReportError::BadArgument(format!("the snapshot has no probe `{probe}`"))
+            })?;
+        let mut freqs = Vec::new();
+        let mut gains = Vec::new();
+        let mut phases = Vec::new();
+        for ((f, g), ph) in self.frequencies_hz.iter().zip(&p.gain_db).zip(&p.phase_deg) {
+            if let (Some(g), Some(ph)) = (g, ph) {
+                freqs.push(*f);
+                gains.push(*g);
+                phases.push(*ph);
+            }
+        }
+        SampledResponse::from_db_deg(freqs, gains, phases)
+    }
+}
+
 /// A probe's response to snapshot or compare: its name, source and `ref` frequency.
 pub struct NamedSource<'a> {
     /// Probe name.
@@ -122,7 +151,7 @@ pub fn snapshot_sources(
     sorted.dedup();
     let probes = probes
         .iter_mut()
-        .map(|p| probe_snapshot(p, &sorted))
+        .map(|p| snapshot_probe(&p.name, p.source, p.reference, &sorted))
         .collect();
     Snapshot {
         format: SNAPSHOT_FORMAT,
@@ -153,13 +182,20 @@ fn curves(source: &mut dyn ResponseSource, freqs: &[f64]) -> Result<Curves, Repo
     Ok((gain, phase))
 }
 
-fn probe_snapshot(probe: &mut NamedSource<'_>, freqs: &[f64]) -> ProbeSnapshot {
+/// One probe's entry of a snapshot: its curves at `freqs` (ascending, positive) and the
+/// summary's named values; failures are recorded in `error`, never thrown.
+pub fn snapshot_probe(
+    name: &str,
+    source: &mut dyn ResponseSource,
+    reference: Option<f64>,
+    freqs: &[f64],
+) -> ProbeSnapshot {
     let empty = || vec![None; freqs.len()];
-    let (gain_db, phase_deg, mut error) = match curves(probe.source, freqs) {
+    let (gain_db, phase_deg, mut error) = match curves(source, freqs) {
         Ok((g, p)) => (g, p, None),
         Err(e) => (empty(), empty(), Some(e.to_string())),
     };
-    let metrics = match analyze(probe.source, freqs, probe.reference) {
+    let metrics = match analyze(source, freqs, reference) {
         Ok(summary) => summary
             .named_values()
             .into_iter()
@@ -175,7 +211,7 @@ fn probe_snapshot(probe: &mut NamedSource<'_>, freqs: &[f64]) -> ProbeSnapshot {
         }
     };
     ProbeSnapshot {
-        name: probe.name.clone(),
+        name: name.to_string(),
         gain_db,
         phase_deg,
         metrics,
@@ -251,7 +287,14 @@ impl std::fmt::Display for Finding {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         let value =
             |v: Option<f64>| v.map_or_else(|| "none".to_string(), |v| fmt_value(v, self.unit));
-        write!(f, "{} {}", self.probe, self.quantity)?;
+        if self.probe.is_empty() {
+            f.write_str(&self.quantity)?;
+        } else {
+            write!(f, "{} {}", self.probe, self.quantity)?;
+        }
+        if self.actual.is_none() && self.expected.is_none() {
+            return Ok(());
+        }
         if let Some(at) = self.at_hz {
             write!(f, " at {}", fmt_hz(at))?;
         }
@@ -307,7 +350,24 @@ pub fn compare_sources(
     thresholds: &Thresholds,
 ) -> CompareReport {
     let now = snapshot_sources(snapshot.title.as_deref(), &snapshot.frequencies_hz, probes);
+    compare_snapshots(snapshot, &now, thresholds)
+}
+
+/// Compares a new snapshot (taken at the old one's frequencies) with an old one: per
+/// probe the worst gain and phase deviation (and where), and every named metric. A probe
+/// or metric present on one side only is a failure, and so is a change of frequencies.
+pub fn compare_snapshots(
+    snapshot: &Snapshot,
+    now: &Snapshot,
+    thresholds: &Thresholds,
+) -> CompareReport {
     let mut findings = Vec::new();
+    if now.frequencies_hz != snapshot.frequencies_hz {
+        findings.push(Finding {
+            quantity: "sweep frequencies differ".into(),
+            ..missing("", "", true)
+        });
+    }
     for old in &snapshot.probes {
         match now.probes.iter().find(|p| p.name == old.name) {
             Some(new) => compare_probe(
