@@ -226,9 +226,11 @@ fn metric_label(text: &str) -> String {
     text.trim().to_string()
 }
 
-/// Whether `measured` satisfies the expectation, as `rolloff_report::judge` decides.
-pub fn expectation_holds(expectation: &Expectation, measured: f64) -> bool {
-    measured.is_finite() && rolloff_report::judge(expectation, Ok(measured), expectation.unit).pass
+/// Whether `measured` satisfies the expectation, as `rolloff_report::judge` decides
+/// (with the unit `rolloff_report::measured_unit` gives the metric, as `check` does).
+pub fn expectation_holds(circuit: &Circuit, expectation: &Expectation, measured: f64) -> bool {
+    let unit = rolloff_report::measured_unit(circuit, &expectation.metric);
+    measured.is_finite() && rolloff_report::judge(expectation, Ok(measured), unit).pass
 }
 
 #[cfg(test)]
@@ -268,10 +270,15 @@ mod tests {
             deviation: Deviation::Absolute(3.0),
         });
         // Phases compare on the circle (language definition).
-        assert!(expectation_holds(&near_180, -179.0));
-        assert!(!expectation_holds(&near_180, 170.0));
-        assert!(!expectation_holds(&e(Comparison::Less(1.0)), f64::NAN));
+        assert!(expectation_holds(&Circuit::default(), &near_180, -179.0));
+        assert!(!expectation_holds(&Circuit::default(), &near_180, 170.0));
+        assert!(!expectation_holds(
+            &Circuit::default(),
+            &e(Comparison::Less(1.0)),
+            f64::NAN
+        ));
         assert!(expectation_holds(
+            &Circuit::default(),
             &e(Comparison::Within {
                 low: 1.0,
                 high: 2.0

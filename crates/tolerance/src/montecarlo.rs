@@ -154,7 +154,7 @@ pub fn monte_carlo<M: Model>(
                 let e = &circuit.expectations[y.expectation];
                 trials[t][y.metric]
                     .as_ref()
-                    .is_ok_and(|&v| expectation_holds(e, v))
+                    .is_ok_and(|&v| expectation_holds(circuit, e, v))
             })
         })
         .count();
@@ -232,7 +232,10 @@ fn yields<M: Model>(
             let e = &circuit.expectations[i];
             let passed = trials
                 .iter()
-                .filter(|t| t[k].as_ref().is_ok_and(|&v| expectation_holds(e, v)))
+                .filter(|t| {
+                    t[k].as_ref()
+                        .is_ok_and(|&v| expectation_holds(circuit, e, v))
+                })
                 .count();
             ExpectationYield {
                 expectation: i,
