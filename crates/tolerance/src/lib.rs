@@ -3,7 +3,7 @@
 //! Owns the IEC 60063 standard value series ([`series`]), tolerance-band sampling and
 //! reproducible parallel trials ([`sampling`]), and the design analyses that vary part
 //! values on a circuit model: Monte Carlo ([`montecarlo`]), worst case
-//! ([`worstcase`]), sensitivity ([`sensitivity`]) and fitting a `?` part ([`fit`]).
+//! ([`worstcase`]), sensitivity ([`mod@sensitivity`]) and fitting a `?` part ([`mod@fit`]).
 //! The analyses run on anything implementing [`Model`] (set a part value, measure a
 //! metric).
 //!

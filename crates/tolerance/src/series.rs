@@ -48,6 +48,47 @@ pub struct StandardValue {
     pub value: f64,
 }
 
+impl StandardValue {
+    /// The value as an IEC 60062 letter code, the multiplier letter standing for the
+    /// decimal point: `4k7` (4.7 k), `100R` (100), `2n2` (2.2 n), `4u7` (4.7 µ), `1M5`,
+    /// `470m` (0.47). The letters are the SI prefixes `f p n u m k M G T` and `R` for
+    /// none; the language reads every code this gives. `None` outside 1e-15 .. 1e15.
+    ///
+    /// ```
+    /// use rolloff_tolerance::series::Series;
+    /// let code = |x: f64| Series::E24.nearest(x).unwrap().code().unwrap();
+    /// assert_eq!(code(4700.0), "4k7");
+    /// assert_eq!(code(2.2e-9), "2n2");
+    /// assert_eq!(code(100.0), "100R");
+    /// assert_eq!(code(10e3), "10k");
+    /// ```
+    pub fn code(&self) -> Option<String> {
+        const LETTERS: [char; 10] = ['f', 'p', 'n', 'u', 'm', 'R', 'k', 'M', 'G', 'T'];
+        let digits = self.significand.to_string();
+        let n_digits = digits.len() as i32;
+        let lead = self.exponent + n_digits - 1;
+        let group = lead.div_euclid(3) * 3;
+        let letter = *LETTERS.get(usize::try_from(group / 3 + 5).ok()?)?;
+        // The digit string shifted so that the group's unit sits at the letter.
+        let shift = self.exponent - group;
+        if shift >= 0 {
+            return Some(format!("{digits}{}{letter}", "0".repeat(shift as usize)));
+        }
+        let split = n_digits + shift;
+        let (int, frac) = if split > 0 {
+            let (i, f) = digits.split_at(split as usize);
+            (i.to_string(), f.to_string())
+        } else {
+            (
+                "0".to_string(),
+                format!("{}{digits}", "0".repeat((-split) as usize)),
+            )
+        };
+        let frac = frac.trim_end_matches('0');
+        Some(format!("{int}{letter}{frac}"))
+    }
+}
+
 /// How two parts are joined in a [`Combination`].
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub enum Joining {

@@ -241,3 +241,48 @@ proptest! {
         prop_assert!((near / x).ln().abs() <= (up / x).ln().abs() + 1e-12);
     }
 }
+
+#[test]
+fn value_codes_read_back_through_the_language() {
+    // IEC 60062 letter codes; the language's parser is the reader (netlist-language.md).
+    let cases = [
+        (4700.0, "4k7"),
+        (100.0, "100R"),
+        (47.0, "47R"),
+        (1.0, "1R"),
+        (1.5, "1R5"),
+        (0.47, "470m"),
+        (10e3, "10k"),
+        (1.5e6, "1M5"),
+        (2.2e-9, "2n2"),
+        (100e-9, "100n"),
+        (4.7e-6, "4u7"),
+        (1e-12, "1p"),
+    ];
+    for (value, code) in cases {
+        assert_eq!(
+            Series::E24.nearest(value).unwrap().code().unwrap(),
+            code,
+            "{value}"
+        );
+    }
+    assert_eq!(Series::E96.nearest(10.2e3).unwrap().code().unwrap(), "10k2");
+    assert_eq!(Series::E192.nearest(1.01).unwrap().code().unwrap(), "1R01");
+    for series in [Series::E12, Series::E96] {
+        for s in series.values_between(1e-12, 1e9) {
+            let code = s.code().unwrap();
+            let text = format!("vsrc V1 (in, gnd) 1 V\nresistor R1 (in, gnd) {code}\n");
+            let compiled =
+                rolloff_netlist::compile(&text, &rolloff_netlist::CompileOptions::default());
+            let parsed = compiled
+                .circuit
+                .map(|c| c.parts[1].kind.passive_value().unwrap().0);
+            let parsed = parsed.unwrap_or_else(|| panic!("{code}: {:?}", compiled.diagnostics));
+            assert!(
+                (parsed / s.value - 1.0).abs() < 1e-15,
+                "{code} read as {parsed}, not {}",
+                s.value
+            );
+        }
+    }
+}
