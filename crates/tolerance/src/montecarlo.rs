@@ -10,10 +10,16 @@ use crate::sampling::{
 };
 use rolloff_netlist::{Metric, Tolerance};
 
+/// The largest number of runs accepted (every trial's values are kept).
+pub const MAX_RUNS: usize = 10_000_000;
+
+/// The largest number of histogram bins accepted.
+pub const MAX_BINS: usize = 100_000;
+
 /// Options of [`monte_carlo`].
 #[derive(Debug, Clone, PartialEq)]
 pub struct MonteCarloOptions {
-    /// Number of trials (≥ 1).
+    /// Number of trials (1 ..= [`MAX_RUNS`]).
     pub runs: usize,
     /// The seed; with the same seed and circuit the results are bit-identical whatever
     /// the number of threads.
@@ -22,7 +28,7 @@ pub struct MonteCarloOptions {
     pub distribution: Distribution,
     /// The band of passive parts that have no `tol` (`None`: they stay at nominal).
     pub default_tolerance: Option<Tolerance>,
-    /// Bins of each metric's histogram (≥ 1).
+    /// Bins of each metric's histogram (1 ..= [`MAX_BINS`]).
     pub histogram_bins: usize,
 }
 
@@ -171,16 +177,16 @@ pub fn monte_carlo<M: Model>(
 }
 
 fn validate(options: &MonteCarloOptions) -> Result<(), ToleranceError> {
-    if options.runs == 0 {
+    if !(1..=MAX_RUNS).contains(&options.runs) {
         return Err(ToleranceError::InvalidOption {
             option: "runs",
-            reason: "at least one run is needed".into(),
+            reason: format!("{} is not between 1 and {MAX_RUNS}", options.runs),
         });
     }
-    if options.histogram_bins == 0 {
+    if !(1..=MAX_BINS).contains(&options.histogram_bins) {
         return Err(ToleranceError::InvalidOption {
             option: "histogram_bins",
-            reason: "at least one bin is needed".into(),
+            reason: format!("{} is not between 1 and {MAX_BINS}", options.histogram_bins),
         });
     }
     if let Some(band) = options.default_tolerance {

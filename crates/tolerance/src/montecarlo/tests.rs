@@ -298,6 +298,14 @@ fn bad_options_and_empty_circuits_are_errors() {
         monte_carlo(&model, &zero, None),
         Err(ToleranceError::InvalidOption { option: "runs", .. })
     ));
+    let huge = MonteCarloOptions {
+        runs: usize::MAX,
+        ..MonteCarloOptions::default()
+    };
+    assert!(matches!(
+        monte_carlo(&model, &huge, None),
+        Err(ToleranceError::InvalidOption { option: "runs", .. })
+    ));
     let band = MonteCarloOptions {
         default_tolerance: Some(Tolerance {
             lower: -1.5,
