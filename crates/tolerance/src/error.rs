@@ -40,6 +40,14 @@ pub enum ToleranceError {
     /// More than one part to fit (not supported yet).
     #[error("only one part can be fitted at a time; these are `?`: {}", .0.join(", "))]
     SeveralFitParts(Vec<String>),
+    /// Several `?` parts and not as many fit targets.
+    #[error("{} parts to fit ({}) need as many `=` targets, found {}: {}", .parts.len(), .parts.join(", "), .targets.len(), .targets.join("; "))]
+    FitCountMismatch {
+        /// The parts to fit.
+        parts: Vec<String>,
+        /// The fit targets' texts.
+        targets: Vec<String>,
+    },
     /// No equality expectation to fit to.
     #[error("no fit target: add an expectation `expect <metric> = <value>` for `{part}` to meet")]
     NoFitTarget {

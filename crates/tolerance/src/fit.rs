@@ -11,7 +11,7 @@
 use crate::error::ToleranceError;
 use crate::model::{Model, expectation_metrics, sum_is_series};
 use crate::series::{Combination, Joining, Series, StandardValue};
-use rolloff_netlist::{Comparison, Deviation, FitRange, PartId, PartKind, Unit};
+use rolloff_netlist::{Comparison, Deviation, FitRange, Metric, PartId, PartKind, Unit};
 
 /// Options of [`fit`].
 #[derive(Debug, Clone, PartialEq)]
@@ -174,51 +174,8 @@ pub fn fit<M: Model>(model: &M, options: &FitOptions) -> Result<FitReport, Toler
         reason,
     })? + target.value;
 
-    let try_value = |v: f64| -> Result<f64, String> {
-        let mut trial = model.clone();
-        trial.set_part_value(part, v)?;
-        trial.measure(&metric)
-    };
-    let relative = |r: &Result<f64, String>| {
-        r.as_ref()
-            .ok()
-            .filter(|_| target.value != 0.0)
-            .map(|v| (v - target.value) / target.value)
-    };
-    let nearest = options.series.nearest(exact);
-    let mut standard: Vec<StandardCandidate> = Vec::new();
-    for value in [
-        options.series.next_down(exact),
-        options.series.next_up(exact),
-    ]
-    .into_iter()
-    .flatten()
-    {
-        if standard.iter().any(|c| c.value == value) {
-            continue;
-        }
-        let metric = try_value(value.value);
-        standard.push(StandardCandidate {
-            value,
-            nearest: nearest == Some(value),
-            relative_error: relative(&metric),
-            metric,
-        });
-    }
-    let best_pair = options.series.best_combination(exact).map(|combination| {
-        let metric = try_value(combination.value);
-        let series_wiring = sum_is_series(&kind) == (combination.joining == Joining::Sum);
-        PairCandidate {
-            combination,
-            connection: if series_wiring {
-                Connection::Series
-            } else {
-                Connection::Parallel
-            },
-            relative_error: relative(&metric),
-            metric,
-        }
-    });
+    let (standard, best_pair) =
+        candidates(model, part, &kind, exact, &target, metric, options.series);
     Ok(FitReport {
         part,
         name,
@@ -232,6 +189,260 @@ pub fn fit<M: Model>(model: &M, options: &FitOptions) -> Result<FitReport, Toler
         standard,
         best_pair,
     })
+}
+
+/// The standard values around `exact` and the best pair, each with the metric it gives
+/// (on `model` as it is, with only `part` changed).
+fn candidates<M: Model>(
+    model: &M,
+    part: PartId,
+    kind: &PartKind,
+    exact: f64,
+    target: &FitTarget,
+    metric: Metric,
+    series: Series,
+) -> (Vec<StandardCandidate>, Option<PairCandidate>) {
+    let try_value = |v: f64| -> Result<f64, String> {
+        let mut trial = model.clone();
+        trial.set_part_value(part, v)?;
+        trial.measure(&metric)
+    };
+    let relative = |r: &Result<f64, String>| {
+        r.as_ref()
+            .ok()
+            .filter(|_| target.value != 0.0)
+            .map(|v| (v - target.value) / target.value)
+    };
+    let nearest = series.nearest(exact);
+    let mut standard: Vec<StandardCandidate> = Vec::new();
+    for value in [series.next_down(exact), series.next_up(exact)]
+        .into_iter()
+        .flatten()
+    {
+        if standard.iter().any(|c| c.value == value) {
+            continue;
+        }
+        let metric = try_value(value.value);
+        standard.push(StandardCandidate {
+            value,
+            nearest: nearest == Some(value),
+            relative_error: relative(&metric),
+            metric,
+        });
+    }
+    let best_pair = series.best_combination(exact).map(|combination| {
+        let metric = try_value(combination.value);
+        let series_wiring = sum_is_series(kind) == (combination.joining == Joining::Sum);
+        PairCandidate {
+            combination,
+            connection: if series_wiring {
+                Connection::Series
+            } else {
+                Connection::Parallel
+            },
+            relative_error: relative(&metric),
+            metric,
+        }
+    });
+    (standard, best_pair)
+}
+
+/// Solves for every `?` part at once, one `=` target per part (the targets without `±`,
+/// else all `=` expectations, in source order; part `i` is reported against target `i`,
+/// though every target holds at the solution).
+///
+/// One part is [`fit`]. Several are solved by Newton's method in `ln x` with a
+/// forward-difference Jacobian (step `1e-6`), each step halved until the largest
+/// relative residual falls, and values kept inside their fit ranges; it stops when a
+/// step moves no `ln x` by more than [`FitOptions::log_tolerance`]. The candidates of
+/// each part are evaluated with the other parts at their exact values.
+///
+/// # Errors
+/// As [`fit`], and [`ToleranceError::FitCountMismatch`] when the numbers of parts and
+/// targets differ, [`ToleranceError::FitFailed`] when Newton does not converge (or the
+/// targets do not depend independently on the parts).
+pub fn fit_all<M: Model>(
+    model: &M,
+    options: &FitOptions,
+) -> Result<Vec<FitReport>, ToleranceError> {
+    validate(options)?;
+    let parts = fit_parts(model)?;
+    match parts.len() {
+        0 => return Err(ToleranceError::NothingToFit),
+        1 => return fit(model, options).map(|r| vec![r]),
+        _ => {}
+    }
+    let targets = fit_targets(model.circuit());
+    if targets.len() != parts.len() {
+        return Err(ToleranceError::FitCountMismatch {
+            parts: parts.iter().map(|p| p.1.clone()).collect(),
+            targets: targets.into_iter().map(|t| t.text).collect(),
+        });
+    }
+    let metrics: Vec<Metric> = targets
+        .iter()
+        .map(|t| model.circuit().expectations[t.expectation].metric)
+        .collect();
+    let names = parts
+        .iter()
+        .map(|p| p.1.as_str())
+        .collect::<Vec<_>>()
+        .join(", ");
+    let labels = targets
+        .iter()
+        .map(|t| t.label.as_str())
+        .collect::<Vec<_>>()
+        .join(", ");
+    let failed = |u: &[f64], reason: String| ToleranceError::FitFailed {
+        part: names.clone(),
+        metric: labels.clone(),
+        value: u.first().map_or(0.0, |u| u.exp()),
+        reason,
+    };
+    let mut m = model.clone();
+    let mut evaluations = 0usize;
+    let mut residuals = |u: &[f64]| -> Result<Vec<f64>, String> {
+        evaluations += 1;
+        for (p, &ui) in parts.iter().zip(u) {
+            m.set_part_value(p.0, ui.exp())?;
+        }
+        m.measure_many(&metrics)
+            .into_iter()
+            .zip(&targets)
+            .map(|(measured, t)| {
+                let v = measured?;
+                let scale = if t.value == 0.0 { 1.0 } else { t.value.abs() };
+                let r = (v - t.value) / scale;
+                if r.is_finite() {
+                    Ok(r)
+                } else {
+                    Err("the metric was not a finite number".into())
+                }
+            })
+            .collect()
+    };
+    let bounds: Vec<(f64, f64)> = parts
+        .iter()
+        .map(|p| (p.3.low.ln(), p.3.high.ln()))
+        .collect();
+    let mut u: Vec<f64> = parts.iter().map(|p| p.4.ln()).collect();
+    let mut r = residuals(&u).map_err(|e| failed(&u, e))?;
+    let worst = |r: &[f64]| r.iter().fold(0.0f64, |a, x| a.max(x.abs()));
+    let mut converged = false;
+    for _ in 0..options.max_iterations {
+        if worst(&r) == 0.0 {
+            converged = true;
+            break;
+        }
+        let step = 1e-6;
+        let mut jacobian = vec![vec![0.0; u.len()]; u.len()];
+        for k in 0..u.len() {
+            let mut probe = u.clone();
+            probe[k] += step;
+            let rk = residuals(&probe).map_err(|e| failed(&probe, e))?;
+            for (row, (a, b)) in jacobian.iter_mut().zip(rk.iter().zip(&r)) {
+                row[k] = (a - b) / step;
+            }
+        }
+        let neg: Vec<f64> = r.iter().map(|x| -x).collect();
+        let du = solve_dense(jacobian, neg).ok_or_else(|| {
+            failed(
+                &u,
+                "the targets do not depend independently on the parts (singular Jacobian)".into(),
+            )
+        })?;
+        let mut t = 1.0;
+        let (next_u, next_r) = loop {
+            let trial: Vec<f64> = u
+                .iter()
+                .zip(&du)
+                .zip(&bounds)
+                .map(|((ui, di), (lo, hi))| (ui + t * di).clamp(*lo, *hi))
+                .collect();
+            let rt = residuals(&trial).map_err(|e| failed(&trial, e))?;
+            if worst(&rt) < worst(&r) || t < 1e-4 {
+                break (trial, rt);
+            }
+            t *= 0.5;
+        };
+        let moved = next_u
+            .iter()
+            .zip(&u)
+            .fold(0.0f64, |a, (x, y)| a.max((x - y).abs()));
+        u = next_u;
+        r = next_r;
+        if moved <= options.log_tolerance {
+            converged = true;
+            break;
+        }
+    }
+    if !converged || worst(&r) > 1e-6 {
+        return Err(failed(
+            &u,
+            format!(
+                "Newton did not converge: the largest relative residual is {:.3e}",
+                worst(&r)
+            ),
+        ));
+    }
+    // The model with every part at its exact value, for the candidates.
+    let mut solved = model.clone();
+    for (p, ui) in parts.iter().zip(&u) {
+        solved
+            .set_part_value(p.0, ui.exp())
+            .map_err(|e| failed(&u, e))?;
+    }
+    let achieved = solved.measure_many(&metrics);
+    let mut reports = Vec::with_capacity(parts.len());
+    for (((p, target), ui), measured) in parts.into_iter().zip(targets).zip(&u).zip(achieved) {
+        let (part, name, kind, range, _) = p;
+        let exact = ui.exp();
+        let metric = model.circuit().expectations[target.expectation].metric;
+        let (standard, best_pair) =
+            candidates(&solved, part, &kind, exact, &target, metric, options.series);
+        reports.push(FitReport {
+            part,
+            name,
+            kind: kind.keyword(),
+            range,
+            achieved: measured.map_err(|e| failed(&u, e))?,
+            target,
+            exact,
+            evaluations,
+            series: options.series,
+            standard,
+            best_pair,
+        });
+    }
+    Ok(reports)
+}
+
+/// Solves `a·x = b` by Gaussian elimination with partial pivoting; `None` if singular.
+fn solve_dense(mut a: Vec<Vec<f64>>, mut b: Vec<f64>) -> Option<Vec<f64>> {
+    let n = b.len();
+    for k in 0..n {
+        let p = (k..n).max_by(|&i, &j| a[i][k].abs().total_cmp(&a[j][k].abs()))?;
+        if !(a[p][k].abs() > 0.0 && a[p][k].is_finite()) {
+            return None;
+        }
+        a.swap(k, p);
+        b.swap(k, p);
+        let (top, bottom) = a.split_at_mut(k + 1);
+        let pivot_row = &top[k];
+        for (i, row) in bottom.iter_mut().enumerate() {
+            let f = row[k] / pivot_row[k];
+            for (x, p) in row[k..].iter_mut().zip(&pivot_row[k..]) {
+                *x -= f * p;
+            }
+            b[k + 1 + i] -= f * b[k];
+        }
+    }
+    let mut x = vec![0.0; n];
+    for k in (0..n).rev() {
+        let s: f64 = (k + 1..n).map(|j| a[k][j] * x[j]).sum();
+        x[k] = (b[k] - s) / a[k][k];
+    }
+    x.iter().all(|v| v.is_finite()).then_some(x)
 }
 
 fn validate(options: &FitOptions) -> Result<(), ToleranceError> {
@@ -259,6 +470,18 @@ fn validate(options: &FitOptions) -> Result<(), ToleranceError> {
 type FitPart = (PartId, String, PartKind, FitRange, f64);
 
 fn fit_part<M: Model>(model: &M) -> Result<FitPart, ToleranceError> {
+    let mut found = fit_parts(model)?;
+    match found.len() {
+        0 => Err(ToleranceError::NothingToFit),
+        1 => Ok(found.remove(0)),
+        _ => Err(ToleranceError::SeveralFitParts(
+            found.into_iter().map(|f| f.1).collect(),
+        )),
+    }
+}
+
+/// Every `?` part with its checked range and start guess, in circuit order.
+fn fit_parts<M: Model>(model: &M) -> Result<Vec<FitPart>, ToleranceError> {
     let circuit = model.circuit();
     let mut found: Vec<FitPart> = Vec::new();
     for (i, p) in circuit.parts.iter().enumerate() {
@@ -268,46 +491,53 @@ fn fit_part<M: Model>(model: &M) -> Result<FitPart, ToleranceError> {
         else {
             continue;
         };
-        if let Some(range) = fit {
-            found.push((
-                PartId(i as u32),
-                p.name.clone(),
-                p.kind.clone(),
-                range,
-                value,
-            ));
+        let Some(range) = fit else {
+            continue;
+        };
+        let ok = |v: f64| v.is_finite() && v > 0.0;
+        if !(ok(range.low) && ok(range.high) && range.low < range.high) {
+            return Err(ToleranceError::InvalidOption {
+                option: "fit range",
+                reason: format!(
+                    "`{}`: {:e} .. {:e} is not a range of positive values",
+                    p.name, range.low, range.high
+                ),
+            });
         }
+        // The start guess steers the choice among several brackets, and starts Newton.
+        let start = if ok(value) {
+            value.clamp(range.low, range.high)
+        } else {
+            (range.low * range.high).sqrt()
+        };
+        found.push((
+            PartId(i as u32),
+            p.name.clone(),
+            p.kind.clone(),
+            range,
+            start,
+        ));
     }
-    match found.len() {
-        0 => Err(ToleranceError::NothingToFit),
-        1 => {
-            let (id, name, kind, range, value) = found.remove(0);
-            let ok = |v: f64| v.is_finite() && v > 0.0;
-            if !(ok(range.low) && ok(range.high) && range.low < range.high) {
-                return Err(ToleranceError::InvalidOption {
-                    option: "fit range",
-                    reason: format!(
-                        "`{name}`: {:e} .. {:e} is not a range of positive values",
-                        range.low, range.high
-                    ),
-                });
-            }
-            // The start guess steers the choice among several brackets only.
-            let start = if ok(value) {
-                value.clamp(range.low, range.high)
-            } else {
-                (range.low * range.high).sqrt()
-            };
-            Ok((id, name, kind, range, start))
-        }
-        _ => Err(ToleranceError::SeveralFitParts(
-            found.into_iter().map(|f| f.1).collect(),
-        )),
-    }
+    Ok(found)
 }
 
 fn fit_target<M: Model>(model: &M, part: &str) -> Result<FitTarget, ToleranceError> {
-    let circuit = model.circuit();
+    let mut targets = fit_targets(model.circuit());
+    match targets.len() {
+        0 => Err(ToleranceError::NoFitTarget {
+            part: part.to_string(),
+        }),
+        1 => Ok(targets.remove(0)),
+        _ => Err(ToleranceError::AmbiguousFitTarget {
+            part: part.to_string(),
+            targets: targets.into_iter().map(|t| t.text).collect(),
+        }),
+    }
+}
+
+/// The fit targets: the `=` expectations without `±` (zero deviation), else every `=`
+/// expectation, in source order.
+fn fit_targets(circuit: &rolloff_netlist::Circuit) -> Vec<FitTarget> {
     let labels = expectation_metrics(circuit);
     let equalities: Vec<(usize, f64, bool)> = circuit
         .expectations
@@ -321,37 +551,25 @@ fn fit_target<M: Model>(model: &M, part: &str) -> Result<FitTarget, ToleranceErr
             _ => None,
         })
         .collect();
-    let exact: Vec<(usize, f64, bool)> = equalities.iter().copied().filter(|e| e.2).collect();
-    let chosen = match (exact.as_slice(), equalities.as_slice()) {
-        ([one], _) | ([], [one]) => *one,
-        ([], []) => {
-            return Err(ToleranceError::NoFitTarget {
-                part: part.to_string(),
-            });
-        }
-        (several, all) => {
-            let pool = if several.is_empty() { all } else { several };
-            return Err(ToleranceError::AmbiguousFitTarget {
-                part: part.to_string(),
-                targets: pool
-                    .iter()
-                    .map(|e| circuit.expectations[e.0].text.clone())
-                    .collect(),
-            });
-        }
-    };
-    let e = &circuit.expectations[chosen.0];
-    let label = labels
-        .iter()
-        .find(|m| m.expectations.contains(&chosen.0))
-        .map_or_else(|| e.text.clone(), |m| m.label.clone());
-    Ok(FitTarget {
-        expectation: chosen.0,
-        text: e.text.clone(),
-        label,
-        value: chosen.1,
-        unit: e.unit,
-    })
+    let any_exact = equalities.iter().any(|e| e.2);
+    equalities
+        .into_iter()
+        .filter(|e| e.2 || !any_exact)
+        .map(|(i, value, _)| {
+            let e = &circuit.expectations[i];
+            let label = labels
+                .iter()
+                .find(|m| m.expectations.contains(&i))
+                .map_or_else(|| e.text.clone(), |m| m.label.clone());
+            FitTarget {
+                expectation: i,
+                text: e.text.clone(),
+                label,
+                value,
+                unit: e.unit,
+            }
+        })
+        .collect()
 }
 
 /// Scans `[lo, hi]` (in `ln x`) for a sign change of `f` and returns the bracket

@@ -40,7 +40,7 @@ pub(crate) mod testing;
 
 pub use circuit_model::CircuitModel;
 pub use error::ToleranceError;
-pub use fit::{FitOptions, FitReport, fit};
+pub use fit::{FitOptions, FitReport, fit, fit_all};
 pub use model::{Model, TolerancedPart};
 pub use montecarlo::{MonteCarloOptions, MonteCarloReport, monte_carlo};
 pub use sampling::Distribution;

@@ -317,3 +317,31 @@ fn a_fitted_design_goes_on_to_monte_carlo() {
     assert!((nominal / expected - 1.0).abs() < 1e-12);
     assert_eq!(report.parts.len(), 2);
 }
+
+#[test]
+fn two_unknowns_fit_a_cutoff_and_an_input_impedance() {
+    // Unloaded RC low-pass: fc = 1/(2πRC) and Zin = R + 1/(jωC), so |Zin(f)| =
+    // R·√(1 + (fc/f)²); fc = 1 kHz with |Zin(10 kHz)| = 10 kΩ gives R = 10 kΩ/√1.01.
+    let m = model(
+        "vsrc V1 (in, gnd) 1 V\n\
+         resistor R1 (in, out) ? in 100 .. 1M\n\
+         capacitor C1 (out, gnd) ? in 1 pF .. 1 mF\n\
+         probe out ref 1 mHz\n\
+         probe zin\n\
+         expect cutoff(out) = 1 kHz\n\
+         expect impedance(zin, 10 kHz) = 10 kΩ\n",
+    );
+    let reports = rolloff_tolerance::fit_all(&m, &FitOptions::default()).unwrap();
+    let r = 10e3 / 1.01f64.sqrt();
+    let c = 1.0 / (TAU * 1e3 * r);
+    assert!(
+        (reports[0].exact / r - 1.0).abs() < 1e-8,
+        "{:?}",
+        reports[0].exact
+    );
+    assert!(
+        (reports[1].exact / c - 1.0).abs() < 1e-8,
+        "{:?}",
+        reports[1].exact
+    );
+}

@@ -163,3 +163,81 @@ fn what_a_fit_needs_is_reported() {
         ToleranceError::NothingToFit
     );
 }
+
+#[allow(clippy::unnecessary_wraps)]
+fn rc_cutoff_and_impedance(
+    values: &[f64],
+    metric: &rolloff_netlist::Metric,
+) -> Result<f64, String> {
+    let (r, c) = (values[1], values[2]);
+    Ok(match metric.kind {
+        MetricKind::Impedance { freq } => (r * r + (1.0 / (TAU * freq * c)).powi(2)).sqrt(),
+        _ => 1.0 / (TAU * r * c),
+    })
+}
+
+#[test]
+fn two_parts_meet_two_targets() {
+    // fc = 1/(2πRC) and |Z(f)| = √(R² + (1/2πfC)²) = R·√(1 + (fc/f)²) (series RC), so
+    // fc = 1 kHz with |Z(10 kHz)| = 10 kΩ gives R = 10 kΩ/√1.01, C = 1/(2π·1 kHz·R).
+    let mut model = rc_fit_model(100.0, 1e6, &[1000.0]);
+    let mut circuit = model.circuit().clone();
+    if let PartKind::Capacitor { fit, .. } = &mut circuit.parts[2].kind {
+        *fit = Some(FitRange {
+            low: 1e-12,
+            high: 1e-3,
+        });
+    }
+    let z = expectation(
+        &circuit,
+        MetricKind::Impedance { freq: 10e3 },
+        "in",
+        Comparison::Equal {
+            value: 10e3,
+            deviation: Deviation::Relative(0.0),
+        },
+        Unit::Ohm,
+        "impedance(zin, 10 kHz) = 10 kΩ",
+    );
+    circuit.expectations.push(z);
+    model = FormulaModel::new(circuit, rc_cutoff_and_impedance);
+    let reports = fit_all(&model, &FitOptions::default()).unwrap();
+    let r = 10e3 / 1.01f64.sqrt();
+    let c = 1.0 / (TAU * 1e3 * r);
+    assert_eq!(reports.len(), 2);
+    assert!(
+        (reports[0].exact / r - 1.0).abs() < 1e-9,
+        "{:?}",
+        reports[0]
+    );
+    assert!(
+        (reports[1].exact / c - 1.0).abs() < 1e-9,
+        "{:?}",
+        reports[1]
+    );
+    assert!((reports[0].achieved / 1e3 - 1.0).abs() < 1e-9);
+    assert!((reports[1].achieved / 10e3 - 1.0).abs() < 1e-9);
+    assert_eq!(
+        fit(&model, &FitOptions::default()).unwrap_err(),
+        ToleranceError::SeveralFitParts(vec!["R1".into(), "C1".into()])
+    );
+    // One target for two parts cannot be solved.
+    let mut short = model.circuit().clone();
+    short.expectations.pop();
+    let err = fit_all(
+        &FormulaModel::new(short, rc_cutoff_and_impedance),
+        &FitOptions::default(),
+    )
+    .unwrap_err();
+    assert!(
+        matches!(err, ToleranceError::FitCountMismatch { .. }),
+        "{err:?}"
+    );
+}
+
+#[test]
+fn dense_solver_solves_and_refuses_singular_systems() {
+    let x = solve_dense(vec![vec![2.0, 1.0], vec![1.0, 3.0]], vec![3.0, 5.0]).unwrap();
+    assert!((x[0] - 0.8).abs() < 1e-15 && (x[1] - 1.4).abs() < 1e-15);
+    assert!(solve_dense(vec![vec![1.0, 2.0], vec![2.0, 4.0]], vec![1.0, 2.0]).is_none());
+}
