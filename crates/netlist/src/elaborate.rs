@@ -263,13 +263,13 @@ impl<'a> Elaborator<'a> {
         let mut new_id = vec![u32::MAX; n];
         new_id[0] = 0;
         let mut next = 1u32;
-        for part in &self.parts {
-            for node in part.kind.nodes() {
+        for part in &mut self.parts {
+            for_each_node(&mut part.kind, |node: &mut NodeId| {
                 if new_id[node.index()] == u32::MAX {
                     new_id[node.index()] = next;
                     next += 1;
                 }
-            }
+            });
         }
         for id in &mut new_id {
             if *id == u32::MAX {
@@ -2035,7 +2035,7 @@ impl WithNote for Diagnostic {
 }
 
 /// Applies `f` to every node of a part.
-fn for_each_node(kind: &mut PartKind, f: impl Fn(&mut NodeId)) {
+fn for_each_node(kind: &mut PartKind, mut f: impl FnMut(&mut NodeId)) {
     match kind {
         PartKind::Resistor { a, b, .. }
         | PartKind::Capacitor { a, b, .. }

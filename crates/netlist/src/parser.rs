@@ -1150,8 +1150,15 @@ fn bad_option(w: &Ident, k: PartKeyword) -> PError {
     } else {
         format!("unexpected `{}`", w.name)
     };
-    PError::custom(w.span.start, w.name.len(), DiagnosticKind::Syntax, message)
-        .label(format!("expected {}", option_expectation(k)))
+    let e = PError::custom(w.span.start, w.name.len(), DiagnosticKind::Syntax, message)
+        .label(format!("expected {}", option_expectation(k)));
+    if w.name.chars().count() == 1 && w.name.chars().all(|c| prefix_exponent(c).is_some()) {
+        return e.help(format!(
+            "an SI prefix is glued to the number (`10{0}`) or to its unit (`10 {0}Ω`)",
+            w.name
+        ));
+    }
+    e
 }
 
 /// `block name (pins) [param = value, …]`
