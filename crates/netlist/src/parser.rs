@@ -1,6 +1,6 @@
 //! The grammar: `nom` parsers from text to the syntax tree, one line at a time.
 //!
-//! Every line is parsed on its own (`complete` parsers over a `LocatedSpan` of that
+//! Every line is parsed on its own (`complete` parsers over the `&str` of that
 //! line), so an error on one line never hides the next; `block … end` is put
 //! together afterwards from the line statements. Once a statement keyword is read the
 //! rest of the line is under `cut`, so errors land on the real token rather than on
@@ -19,14 +19,45 @@ use nom::character::complete::digit1;
 use nom::combinator::cut;
 use nom::error::{ErrorKind, ParseError, context};
 use nom::{IResult, Input, Parser};
-use nom_locate::LocatedSpan;
+use std::cell::Cell;
 
 /// The deepest nesting of parentheses, signs and powers an expression may have.
 pub const MAX_DEPTH: u32 = 64;
 /// The longest line accepted, in bytes.
 pub const MAX_LINE: usize = 64 * 1024;
 
-type In<'a> = LocatedSpan<&'a str>;
+type In<'a> = &'a str;
+
+thread_local! {
+    /// The address of the text being parsed, so a suffix's byte offset is a pointer
+    /// difference. (`nom_locate` spans did this too, but counting lines on every
+    /// token cost more than the rest of the parser.)
+    static BASE: Cell<usize> = const { Cell::new(0) };
+}
+
+/// Byte offsets and fragments of the input, in the names `nom_locate` uses.
+trait Located<'a> {
+    fn location_offset(&self) -> usize;
+    fn fragment(&self) -> &&'a str;
+}
+
+impl<'a> Located<'a> for &'a str {
+    fn location_offset(&self) -> usize {
+        (self.as_ptr() as usize).wrapping_sub(BASE.with(Cell::get))
+    }
+
+    fn fragment(&self) -> &&'a str {
+        self
+    }
+}
+
+/// Runs `f` with offsets measured from the start of `text`.
+fn with_base<T>(text: &str, f: impl FnOnce() -> T) -> T {
+    let previous = BASE.with(|b| b.replace(text.as_ptr() as usize));
+    let out = f();
+    BASE.with(|b| b.set(previous));
+    out
+}
 type PResult<'a, T> = IResult<In<'a>, T, PError>;
 
 /// The parser's error: where, what was expected, and optionally a full custom message.
@@ -1415,10 +1446,14 @@ fn comment_start(line: &str) -> usize {
 
 /// Parses a whole source: every line's statement, blocks grouped, and every error.
 pub(crate) fn parse(source: &str) -> (Vec<Stmt>, Vec<Diagnostic>) {
+    with_base(source, || parse_lines(source))
+}
+
+fn parse_lines(source: &str) -> (Vec<Stmt>, Vec<Diagnostic>) {
     let n_lines = source.bytes().filter(|&b| b == b'\n').count() + 1;
     let mut statements = Vec::with_capacity(n_lines);
     let mut diagnostics = Vec::new();
-    let mut rest = LocatedSpan::new(source);
+    let mut rest: In<'_> = source;
     while !rest.fragment().is_empty() {
         let frag = *rest.fragment();
         let line_len = frag.find('\n').unwrap_or(frag.len());
@@ -1469,7 +1504,11 @@ pub(crate) fn parse(source: &str) -> (Vec<Stmt>, Vec<Diagnostic>) {
 
 /// Parses an expression on its own (a `--set` value); spans are relative to `text`.
 pub(crate) fn parse_expression(text: &str) -> Result<Expr, Diagnostic> {
-    let input = LocatedSpan::new(text);
+    with_base(text, || parse_expression_text(text))
+}
+
+fn parse_expression_text(text: &str) -> Result<Expr, Diagnostic> {
+    let input: In<'_> = text;
     match expr(input, 0) {
         Ok((rest, e)) => {
             let (rest, ()) = ws(rest).map_err(|_| {
