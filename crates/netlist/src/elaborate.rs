@@ -68,6 +68,19 @@ pub(crate) struct Quantity {
     pub dim: Dim,
 }
 
+/// Where a value stands, for messages (`the resistance of `R1``); formatted only when
+/// there is something to report.
+struct Place<'p> {
+    what: &'p str,
+    name: &'p str,
+}
+
+impl std::fmt::Display for Place<'_> {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "the {} of `{}`", self.what, self.name)
+    }
+}
+
 /// A `let` binding.
 #[derive(Debug)]
 struct LetBinding {
@@ -148,7 +161,7 @@ struct Elaborator<'a> {
     diags: &'a mut Vec<Diagnostic>,
     lets: Map<String, LetBinding>,
     let_order: Vec<String>,
-    blocks: HashMap<String, &'a BlockDef>,
+    blocks: HashMap<String, &'a BlockDef<'a>>,
     names: Map<String, (NameKind, Span)>,
     nodes: Vec<String>,
     node_index: Map<String, NodeId>,
@@ -191,7 +204,7 @@ impl<'a> Elaborator<'a> {
         for stmt in statements {
             if let StmtKind::Block(def) = &stmt.kind {
                 self.declare(&def.name, NameKind::Block);
-                self.blocks.entry(def.name.name.clone()).or_insert(def);
+                self.blocks.entry(def.name.name.to_string()).or_insert(def);
             }
         }
         self.check_recursion();
@@ -250,19 +263,26 @@ impl<'a> Elaborator<'a> {
         let mut new_id = vec![u32::MAX; n];
         new_id[0] = 0;
         let mut next = 1u32;
-        for part in &self.parts {
-            for node in part.kind.nodes() {
+        for part in &mut self.parts {
+            for_each_node(&mut part.kind, |node: &mut NodeId| {
                 if new_id[node.index()] == u32::MAX {
                     new_id[node.index()] = next;
                     next += 1;
                 }
-            }
+            });
         }
         for id in &mut new_id {
             if *id == u32::MAX {
                 *id = next;
                 next += 1;
             }
+        }
+        if new_id
+            .iter()
+            .enumerate()
+            .all(|(old, &new)| old as u32 == new)
+        {
+            return;
         }
         let map = |id: &mut NodeId| *id = NodeId(new_id[id.index()]);
         for part in &mut self.parts {
@@ -289,7 +309,7 @@ impl<'a> Elaborator<'a> {
 
     /// Enters a declared name into the one namespace; a duplicate is an error.
     fn declare(&mut self, id: &Ident, kind: NameKind) -> bool {
-        self.declare_name(&id.name, id.span, kind)
+        self.declare_name(id.name, id.span, kind)
     }
 
     fn declare_name(&mut self, name: &str, span: Span, kind: NameKind) -> bool {
@@ -321,7 +341,7 @@ impl<'a> Elaborator<'a> {
         let known: HashSet<&str> = statements
             .iter()
             .filter_map(|s| match &s.kind {
-                StmtKind::Let(n, _) => Some(n.name.as_str()),
+                StmtKind::Let(n, _) => Some(n.name),
                 _ => None,
             })
             .collect();
@@ -343,20 +363,20 @@ impl<'a> Elaborator<'a> {
             let StmtKind::Let(n, expr) = &stmt.kind else {
                 continue;
             };
-            let value = match overrides.iter().rev().find(|(o, _, _)| o == &n.name) {
+            let value = match overrides.iter().rev().find(|(o, _, _)| o == n.name) {
                 Some((_, over, text)) => self.eval_override(n, over, text),
                 None => self.eval(expr, &root),
             };
             if self.declare(n, NameKind::Let) {
                 self.lets.insert(
-                    n.name.clone(),
+                    n.name.to_string(),
                     LetBinding {
                         value,
                         span: n.span,
                         used: false,
                     },
                 );
-                self.let_order.push(n.name.clone());
+                self.let_order.push(n.name.to_string());
             }
         }
     }
@@ -603,13 +623,19 @@ impl<'a> Elaborator<'a> {
     }
 
     /// Evaluates a value that must fit `expected`; an error shows both dimensions.
-    fn value_of(&mut self, e: &Expr, scope: &Scope, expected: Dim, place: &str) -> Option<f64> {
+    fn value_of(
+        &mut self,
+        e: &Expr,
+        scope: &Scope,
+        expected: Dim,
+        place: &dyn std::fmt::Display,
+    ) -> Option<f64> {
         let q = self.eval(e, scope)?;
         if q.dim.fits(expected) {
             return Some(q.value);
         }
         let note = match &e.kind {
-            ExprKind::Name(n) => self.lets.get(n).map(|b| {
+            ExprKind::Name(n) => self.lets.get(*n).map(|b| {
                 let line = line_col(self.source, b.span.start).0;
                 format!(
                     "`{n}` is defined on line {line} as {}",
@@ -635,7 +661,13 @@ impl<'a> Elaborator<'a> {
     }
 
     /// Like [`Self::value_of`], and the value must be positive.
-    fn positive(&mut self, e: &Expr, scope: &Scope, expected: Dim, place: &str) -> Option<f64> {
+    fn positive(
+        &mut self,
+        e: &Expr,
+        scope: &Scope,
+        expected: Dim,
+        place: &dyn std::fmt::Display,
+    ) -> Option<f64> {
         let v = self.value_of(e, scope, expected, place)?;
         if v > 0.0 {
             return Some(v);
@@ -659,11 +691,11 @@ impl<'a> Elaborator<'a> {
             self.node_connections[0] += 1;
             return NodeId::GND;
         }
-        if let Some(&n) = scope.pins.get(&id.name) {
+        if let Some(&n) = scope.pins.get(id.name) {
             self.node_connections[n.index()] += 1;
             return n;
         }
-        let qualified = qualify(&scope.prefix, &id.name);
+        let qualified = qualify(&scope.prefix, id.name);
         if let Some(&n) = self.node_index.get(qualified.as_ref()) {
             self.node_connections[n.index()] += 1;
             return n;
@@ -695,7 +727,7 @@ impl<'a> Elaborator<'a> {
     }
 
     fn add_part(&mut self, p: &PartStmt, span: Span, scope: &Scope) {
-        let name = qualify(&scope.prefix, &p.name.name).into_owned();
+        let name = qualify(&scope.prefix, p.name.name).into_owned();
         let nodes: Vec<NodeId> = p.nodes.iter().map(|n| self.node_id(n, scope)).collect();
         let from: Vec<NodeId> = p.from.iter().map(|n| self.node_id(n, scope)).collect();
         if nodes.len() != p.keyword.n_nodes()
@@ -759,7 +791,7 @@ impl<'a> Elaborator<'a> {
         self.parts.push(Part { name, kind, span });
     }
 
-    fn option<'p>(p: &'p PartStmt, key: &str) -> Option<&'p PartOption> {
+    fn option<'p, 's>(p: &'p PartStmt<'s>, key: &str) -> Option<&'p PartOption<'s>> {
         p.options.iter().map(|(o, _)| o).find(|o| match o {
             PartOption::Tol(..) => key == "tol",
             PartOption::Polar => key == "polar",
@@ -780,7 +812,10 @@ impl<'a> Elaborator<'a> {
         let Some(PartOption::Value(_, e)) = Self::option(p, key) else {
             return Ok(None);
         };
-        let place = format!("the {what} of `{}`", p.name.name);
+        let place = Place {
+            what,
+            name: p.name.name,
+        };
         let v = if positive {
             self.positive(e, scope, dim, &place)
         } else {
@@ -844,7 +879,10 @@ impl<'a> Elaborator<'a> {
                         e,
                         scope,
                         dim,
-                        &format!("the amplitude of `{}`", p.name.name),
+                        &Place {
+                            what: "amplitude",
+                            name: p.name.name,
+                        },
                     )),
                     Some(PartValue::Fit { span, .. }) => {
                         self.error(
@@ -967,7 +1005,10 @@ impl<'a> Elaborator<'a> {
         dim: Dim,
         what: &str,
     ) -> (Option<f64>, Option<FitRange>) {
-        let place = format!("the {what} of `{}`", p.name.name);
+        let place = Place {
+            what,
+            name: p.name.name,
+        };
         match &p.value {
             Some(PartValue::Expr(e)) => (self.positive(e, scope, dim, &place), None),
             Some(PartValue::Fit { range, .. }) => {
@@ -978,13 +1019,19 @@ impl<'a> Elaborator<'a> {
                             lo,
                             scope,
                             dim,
-                            &format!("the lower end of the fit range of `{}`", p.name.name),
+                            &Place {
+                                what: "lower end of the fit range",
+                                name: p.name.name,
+                            },
                         );
                         let hi_v = self.positive(
                             hi,
                             scope,
                             dim,
-                            &format!("the upper end of the fit range of `{}`", p.name.name),
+                            &Place {
+                                what: "upper end of the fit range",
+                                name: p.name.name,
+                            },
                         );
                         let (Some(low), Some(high)) = (lo, hi_v) else {
                             return (None, None);
@@ -1024,7 +1071,10 @@ impl<'a> Elaborator<'a> {
             return Ok(None);
         };
         let plain = Dim::Percent;
-        let place = format!("the tolerance of `{}`", p.name.name);
+        let place = Place {
+            what: "tolerance",
+            name: p.name.name,
+        };
         let low = self.value_of(lo, scope, plain, &place).ok_or(())?;
         let (lower, upper, span) = match hi {
             None => {
@@ -1061,7 +1111,10 @@ impl<'a> Elaborator<'a> {
         let Some(PartOption::Swing(lo, hi)) = Self::option(p, "swing") else {
             return Ok(None);
         };
-        let place = format!("the output swing of `{}`", p.name.name);
+        let place = Place {
+            what: "output swing",
+            name: p.name.name,
+        };
         let low = self.value_of(lo, scope, Dim::Si(VOLT), &place);
         let high = self.value_of(hi, scope, Dim::Si(VOLT), &place);
         let (low, high) = (low.ok_or(())?, high.ok_or(())?);
@@ -1119,13 +1172,13 @@ impl<'a> Elaborator<'a> {
             let target = &u.block.name;
             if target == &path[0] {
                 let mut cycle = path.clone();
-                cycle.push(target.clone());
+                cycle.push(target.to_string());
                 return Some((cycle, u.block.span));
             }
-            if path.contains(target) || path.len() > MAX_USE_DEPTH {
+            if path.iter().any(|p| p == target) || path.len() > MAX_USE_DEPTH {
                 continue;
             }
-            path.push(target.clone());
+            path.push(target.to_string());
             if let Some(found) = self.find_cycle(target, path) {
                 return Some(found);
             }
@@ -1135,20 +1188,20 @@ impl<'a> Elaborator<'a> {
     }
 
     fn expand_use(&mut self, u: &UseStmt, scope: &Scope, depth: usize) {
-        let Some(&def) = self.blocks.get(&u.block.name) else {
+        let Some(&def) = self.blocks.get(u.block.name) else {
             let mut d = Diagnostic::error(
                 DiagnosticKind::UnknownName,
                 u.block.span,
                 format!("unknown block `{}`", u.block.name),
             )
             .with_expected("expected the name of a block defined in this file");
-            if let Some(close) = similar(&u.block.name, self.blocks.keys().map(String::as_str)) {
+            if let Some(close) = similar(u.block.name, self.blocks.keys().map(String::as_str)) {
                 d.help = Some(format!("did you mean `{close}`?"));
             }
             self.diags.push(d);
             return;
         };
-        if self.bad_blocks.contains(&u.block.name) || depth > MAX_USE_DEPTH {
+        if self.bad_blocks.contains(u.block.name) || depth > MAX_USE_DEPTH {
             return;
         }
         let instance = format!("{}{}", scope.prefix, u.name.name);
@@ -1184,7 +1237,7 @@ impl<'a> Elaborator<'a> {
             }
         };
         if u.nodes.len() != def.pins.len() {
-            let pins: Vec<&str> = def.pins.iter().map(|p| p.name.as_str()).collect();
+            let pins: Vec<&str> = def.pins.iter().map(|p| p.name).collect();
             self.error(
                 DiagnosticKind::PinCount,
                 u.nodes_span,
@@ -1212,7 +1265,12 @@ impl<'a> Elaborator<'a> {
             None => {
                 let inner = Scope {
                     params,
-                    pins: def.pins.iter().map(|p| p.name.clone()).zip(outer).collect(),
+                    pins: def
+                        .pins
+                        .iter()
+                        .map(|p| p.name.to_string())
+                        .zip(outer)
+                        .collect(),
                     prefix: format!("{instance}."),
                 };
                 self.expand_body(def, &inner, depth);
@@ -1235,8 +1293,9 @@ impl<'a> Elaborator<'a> {
             let output = if k == n {
                 outer[1]
             } else {
+                let junction_name = format!("j{k}");
                 let junction = Ident {
-                    name: format!("j{k}"),
+                    name: &junction_name,
                     span: def.name.span,
                 };
                 let scope = Scope {
@@ -1251,8 +1310,8 @@ impl<'a> Elaborator<'a> {
             let inner = Scope {
                 params: params.clone(),
                 pins: HashMap::from([
-                    (def.pins[0].name.clone(), input),
-                    (def.pins[1].name.clone(), output),
+                    (def.pins[0].name.to_string(), input),
+                    (def.pins[1].name.to_string(), output),
                 ]),
                 prefix: format!("{stage}."),
             };
@@ -1281,7 +1340,7 @@ impl<'a> Elaborator<'a> {
         let mut ok = true;
         for (name, e) in &u.overrides {
             if !def.params.iter().any(|(p, _)| p.name == name.name) {
-                let names: Vec<&str> = def.params.iter().map(|(p, _)| p.name.as_str()).collect();
+                let names: Vec<&str> = def.params.iter().map(|(p, _)| p.name).collect();
                 let mut d = Diagnostic::error(
                     DiagnosticKind::UnknownName,
                     name.span,
@@ -1292,22 +1351,22 @@ impl<'a> Elaborator<'a> {
                 } else {
                     format!("expected one of {}", names.join(", "))
                 });
-                if let Some(close) = similar(&name.name, names.iter().copied()) {
+                if let Some(close) = similar(name.name, names.iter().copied()) {
                     d.help = Some(format!("did you mean `{close}`?"));
                 }
                 self.diags.push(d);
                 ok = false;
             } else if let Some(q) = self.eval(e, scope) {
-                params.insert(name.name.clone(), q);
+                params.insert(name.name.to_string(), q);
             } else {
                 ok = false;
             }
         }
         for (name, default) in &def.params {
-            if !params.contains_key(&name.name) {
+            if !params.contains_key(name.name) {
                 match self.eval(default, &Scope::default()) {
                     Some(q) => {
-                        params.insert(name.name.clone(), q);
+                        params.insert(name.name.to_string(), q);
                     }
                     None => ok = false,
                 }
@@ -1360,7 +1419,7 @@ impl<'a> Elaborator<'a> {
     }
 
     fn resolve_drive(&mut self, n: &Ident, circuit: &Circuit) -> Option<PartId> {
-        let Some(&id) = self.part_index.get(&n.name) else {
+        let Some(&id) = self.part_index.get(n.name) else {
             let names: Vec<String> = self.part_index.keys().cloned().collect();
             self.unknown(
                 n,
@@ -1388,13 +1447,19 @@ impl<'a> Elaborator<'a> {
             format!("unknown name `{}`", n.name),
         )
         .with_expected(format!("expected {what}"));
-        if let Some(close) = similar(&n.name, candidates.iter().copied()) {
+        if let Some(close) = similar(n.name, candidates.iter().copied()) {
             d.help = Some(format!("did you mean `{close}`?"));
         }
         self.diags.push(d);
     }
 
-    fn frequency(&mut self, e: &Expr, scope: &Scope, place: &str, allow_zero: bool) -> Option<f64> {
+    fn frequency(
+        &mut self,
+        e: &Expr,
+        scope: &Scope,
+        place: &dyn std::fmt::Display,
+        allow_zero: bool,
+    ) -> Option<f64> {
         let v = self.value_of(e, scope, Dim::Si(HERTZ), place)?;
         if v > 0.0 || (allow_zero && v == 0.0) {
             return Some(v);
@@ -1420,9 +1485,9 @@ impl<'a> Elaborator<'a> {
                 stop,
                 per_decade,
             } => {
-                let f1 = self.frequency(start, scope, "the start of a logarithmic sweep", false);
-                let f2 = self.frequency(stop, scope, "the end of the sweep", false);
-                let n = self.value_of(per_decade, scope, Dim::Si(DIMENSIONLESS), "`per_decade`");
+                let f1 = self.frequency(start, scope, &"the start of a logarithmic sweep", false);
+                let f2 = self.frequency(stop, scope, &"the end of the sweep", false);
+                let n = self.value_of(per_decade, scope, Dim::Si(DIMENSIONLESS), &"`per_decade`");
                 let (f1, f2, n) = (f1?, f2?, n?);
                 if n.fract() != 0.0 || !(1.0..=100_000.0).contains(&n) {
                     self.error(
@@ -1461,9 +1526,9 @@ impl<'a> Elaborator<'a> {
                 })
             }
             SweepStmt::Linear { start, stop, step } => {
-                let f1 = self.frequency(start, scope, "the start of a linear sweep", true);
-                let f2 = self.frequency(stop, scope, "the end of the sweep", false);
-                let df = self.frequency(step, scope, "the step", false);
+                let f1 = self.frequency(start, scope, &"the start of a linear sweep", true);
+                let f2 = self.frequency(stop, scope, &"the end of the sweep", false);
+                let df = self.frequency(step, scope, &"the step", false);
                 let (f1, f2, df) = (f1?, f2?, df?);
                 if f2 <= f1 {
                     self.error(
@@ -1495,7 +1560,7 @@ impl<'a> Elaborator<'a> {
             SweepStmt::List(points) => {
                 let values: Vec<Option<f64>> = points
                     .iter()
-                    .map(|p| self.frequency(p, scope, "a sweep frequency", true))
+                    .map(|p| self.frequency(p, scope, &"a sweep frequency", true))
                     .collect();
                 values
                     .into_iter()
@@ -1506,7 +1571,7 @@ impl<'a> Elaborator<'a> {
     }
 
     fn node_ref(&mut self, n: &Ident) -> Option<NodeId> {
-        if let Some(&id) = self.node_index.get(&n.name) {
+        if let Some(&id) = self.node_index.get(n.name) {
             return Some(id);
         }
         let candidates: Vec<&str> = self.nodes.iter().map(String::as_str).collect();
@@ -1520,10 +1585,10 @@ impl<'a> Elaborator<'a> {
     }
 
     fn part_ref(&mut self, n: &Ident) -> Option<PartId> {
-        if let Some(&id) = self.part_index.get(&n.name) {
+        if let Some(&id) = self.part_index.get(n.name) {
             return Some(id);
         }
-        if self.failed_parts.contains(&n.name) {
+        if self.failed_parts.contains(n.name) {
             return None;
         }
         let names: Vec<String> = self.part_index.keys().cloned().collect();
@@ -1571,11 +1636,11 @@ impl<'a> Elaborator<'a> {
             return None;
         }
         let reference = match &p.reference {
-            Some(e) => Some(self.frequency(e, scope, "the reference frequency", false)?),
+            Some(e) => Some(self.frequency(e, scope, &"the reference frequency", false)?),
             None => None,
         };
         Some(Probe {
-            name: p.name.name.clone(),
+            name: p.name.name.to_string(),
             kind,
             reference,
             span,
@@ -1589,10 +1654,10 @@ impl<'a> Elaborator<'a> {
                 if let Some(i) = circuit.probes.iter().position(|p| p.name == n.name) {
                     return Some(Target::Probe(ProbeId(i as u32)));
                 }
-                if let Some(&id) = self.node_index.get(&n.name) {
+                if let Some(&id) = self.node_index.get(n.name) {
                     return Some(Target::Node(id));
                 }
-                if allow_part && let Some(&id) = self.part_index.get(&n.name) {
+                if allow_part && let Some(&id) = self.part_index.get(n.name) {
                     return Some(Target::Part(id));
                 }
                 let mut candidates: Vec<&str> =
@@ -1624,14 +1689,14 @@ impl<'a> Elaborator<'a> {
         circuit: &Circuit,
         scope: &Scope,
     ) -> Option<Expectation> {
-        let Some((template, n_freqs, unit)) = metric_kind(&x.metric.name) else {
+        let Some((template, n_freqs, unit)) = metric_kind(x.metric.name) else {
             let mut d = Diagnostic::error(
                 DiagnosticKind::UnknownName,
                 x.metric.span,
                 format!("unknown metric `{}`", x.metric.name),
             )
             .with_expected("expected a metric such as `cutoff`, `gain` or `bias`");
-            if let Some(close) = similar(&x.metric.name, METRICS.iter().copied()) {
+            if let Some(close) = similar(x.metric.name, METRICS.iter().copied()) {
                 d.help = Some(format!("did you mean `{close}`?"));
             }
             self.diags.push(d);
@@ -1660,7 +1725,7 @@ impl<'a> Elaborator<'a> {
                         ok = false;
                         continue;
                     }
-                    match self.frequency(e, scope, "a metric's frequency", false) {
+                    match self.frequency(e, scope, &"a metric's frequency", false) {
                         Some(f) => freqs.push(f),
                         None => ok = false,
                     }
@@ -1680,10 +1745,10 @@ impl<'a> Elaborator<'a> {
                         ok = false;
                     } else if is_ref {
                         options.reference =
-                            self.frequency(e, scope, "the reference frequency", false);
+                            self.frequency(e, scope, &"the reference frequency", false);
                         ok &= options.reference.is_some();
                     } else {
-                        options.level_db = self.bound(e, scope, Unit::Decibel, "the level");
+                        options.level_db = self.bound(e, scope, Unit::Decibel, &"the level");
                         ok &= options.level_db.is_some();
                     }
                 }
@@ -1731,7 +1796,13 @@ impl<'a> Elaborator<'a> {
 
     /// A comparison bound converted to the metric's unit; a bare number is refused
     /// unless the unit is a plain number.
-    fn bound(&mut self, e: &Expr, scope: &Scope, unit: Unit, place: &str) -> Option<f64> {
+    fn bound(
+        &mut self,
+        e: &Expr,
+        scope: &Scope,
+        unit: Unit,
+        place: &dyn std::fmt::Display,
+    ) -> Option<f64> {
         let q = self.eval(e, scope)?;
         let wanted = unit_dim(unit);
         if unit == Unit::Dimensionless {
@@ -1779,16 +1850,16 @@ impl<'a> Elaborator<'a> {
     fn comparison(&mut self, c: &CmpSyntax, unit: Unit, scope: &Scope) -> Option<Comparison> {
         let place = "the bound";
         Some(match c {
-            CmpSyntax::Less(e) => Comparison::Less(self.bound(e, scope, unit, place)?),
-            CmpSyntax::LessEqual(e) => Comparison::LessEqual(self.bound(e, scope, unit, place)?),
-            CmpSyntax::Greater(e) => Comparison::Greater(self.bound(e, scope, unit, place)?),
+            CmpSyntax::Less(e) => Comparison::Less(self.bound(e, scope, unit, &place)?),
+            CmpSyntax::LessEqual(e) => Comparison::LessEqual(self.bound(e, scope, unit, &place)?),
+            CmpSyntax::Greater(e) => Comparison::Greater(self.bound(e, scope, unit, &place)?),
             CmpSyntax::GreaterEqual(e) => {
-                Comparison::GreaterEqual(self.bound(e, scope, unit, place)?)
+                Comparison::GreaterEqual(self.bound(e, scope, unit, &place)?)
             }
             CmpSyntax::Within(lo, hi) => {
                 let (low, high) = (
-                    self.bound(lo, scope, unit, "the lower bound"),
-                    self.bound(hi, scope, unit, "the upper bound"),
+                    self.bound(lo, scope, unit, &"the lower bound"),
+                    self.bound(hi, scope, unit, &"the upper bound"),
                 );
                 let (low, high) = (low?, high?);
                 if low > high {
@@ -1804,7 +1875,7 @@ impl<'a> Elaborator<'a> {
                 Comparison::Within { low, high }
             }
             CmpSyntax::Equal(e, tol) => {
-                let value = self.bound(e, scope, unit, "the value");
+                let value = self.bound(e, scope, unit, &"the value");
                 let deviation = match tol {
                     Some(t) => self.deviation(t, scope, unit).map(|d| match d {
                         // A bare tolerance is in the value's unit as written: dB/oct
@@ -1970,7 +2041,7 @@ impl WithNote for Diagnostic {
 }
 
 /// Applies `f` to every node of a part.
-fn for_each_node(kind: &mut PartKind, f: impl Fn(&mut NodeId)) {
+fn for_each_node(kind: &mut PartKind, mut f: impl FnMut(&mut NodeId)) {
     match kind {
         PartKind::Resistor { a, b, .. }
         | PartKind::Capacitor { a, b, .. }
