@@ -1,0 +1,2 @@
+mod circuits;
+mod closed_form;
