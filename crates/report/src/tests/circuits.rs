@@ -436,3 +436,54 @@ fn target_unit_and_solver_failures_are_reasons() {
         "FAIL: cutoff(a) < 3 dB (cutoff is measured in Hz, but the expectation is written in dB)"
     );
 }
+
+#[test]
+fn verdicts_carry_the_reference_warnings() {
+    // The sweep ends at 6.3·fc, where the high-pass still rises by 0.49 dB/decade.
+    let text = "vsrc V1 (in, gnd) 1 V\ncapacitor C1 (in, out) 100 nF\nresistor R1 (out, gnd) 10k\n\
+                sweep 1 Hz to 1 kHz per_decade 40\nprobe out\n\
+                expect cutoff(out) within 150 .. 170 Hz\nexpect gain(out, 1 kHz) > -1 dB\n";
+    let circuit = circuit_from(text);
+    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let verdicts = check(&mut analyzer, &sweep_frequencies(&circuit));
+    assert!(verdicts[0].pass, "{}", verdicts[0]);
+    assert!(matches!(
+        verdicts[0].warnings[0],
+        ReportWarning::StillChanging {
+            end: SweepEnd::End,
+            ..
+        }
+    ));
+    assert!(matches!(
+        verdicts[0].warnings[1],
+        ReportWarning::ReferenceBeyondSweep { .. }
+    ));
+    assert!(verdicts[1].warnings.is_empty());
+}
+
+proptest::proptest! {
+    #![proptest_config(proptest::prelude::ProptestConfig::with_cases(64))]
+    /// First-order RC low-pass across the decades of R and C: fc = 1/(2πRC), the phase
+    /// there −45° and the group delay τ/2 (textbook first-order section).
+    #[test]
+    fn solver_cutoff_phase_and_delay_across_decades(r_exp in 1.0f64..6.0, c_exp in -12.0f64..-6.0) {
+        let (r, c) = (10f64.powf(r_exp), 10f64.powf(c_exp));
+        let tau = r * c;
+        let fc = 1.0 / (2.0 * PI * tau);
+        let circuit = Circuit::builder()
+            .vsrc("V1", "in", "gnd", 1.0)
+            .resistor("R1", "in", "out", r)
+            .capacitor("C1", "out", "gnd", c)
+            .build()
+            .unwrap();
+        let mut analyzer = Analyzer::new(&circuit).unwrap();
+        let freqs = Sweep::Log { start: fc / 100.0, stop: fc * 100.0, per_decade: 20 }.frequencies();
+        let m = |kind, reference| metric(&circuit, kind, "out", reference);
+        let f = measure(&mut analyzer, &m(MetricKind::Cutoff, Some(fc * 1e-6)), &freqs).unwrap();
+        proptest::prop_assert!(rel(f, fc) < 1e-9);
+        let p = measure(&mut analyzer, &m(MetricKind::Phase { freq: fc }, None), &freqs).unwrap();
+        proptest::prop_assert!((p + 45.0).abs() < 1e-9);
+        let g = measure(&mut analyzer, &m(MetricKind::GroupDelay { freq: fc }, None), &freqs).unwrap();
+        proptest::prop_assert!(rel(g, tau / 2.0) < 1e-9);
+    }
+}
