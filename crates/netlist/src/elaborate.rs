@@ -22,7 +22,44 @@ use crate::syntax::{
 use crate::units::{
     AMPERE, DIMENSIONLESS, Dim, FARAD, HENRY, HERTZ, OHM, SECOND, SIEMENS, VOLT, format_number,
 };
+use std::borrow::Cow;
 use std::collections::{HashMap, HashSet};
+use std::hash::{BuildHasherDefault, Hasher};
+
+/// FNV-1a: names are short and not adversarial, and SipHash showed up in profiles of
+/// 100 000-part files.
+struct Fnv(u64);
+
+impl Default for Fnv {
+    fn default() -> Self {
+        Fnv(0xcbf2_9ce4_8422_2325)
+    }
+}
+
+impl Hasher for Fnv {
+    fn write(&mut self, bytes: &[u8]) {
+        for &b in bytes {
+            self.0 ^= u64::from(b);
+            self.0 = self.0.wrapping_mul(0x0100_0000_01b3);
+        }
+    }
+
+    fn finish(&self) -> u64 {
+        self.0
+    }
+}
+
+/// The name tables' map type.
+type Map<K, V> = HashMap<K, V, BuildHasherDefault<Fnv>>;
+
+/// `prefix + name` without allocating at the top level.
+fn qualify<'n>(prefix: &str, name: &'n str) -> Cow<'n, str> {
+    if prefix.is_empty() {
+        Cow::Borrowed(name)
+    } else {
+        Cow::Owned(format!("{prefix}{name}"))
+    }
+}
 
 /// A value with its dimension.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -86,16 +123,16 @@ pub(crate) fn elaborate(
     let mut e = Elaborator {
         source,
         diags: diagnostics,
-        lets: HashMap::new(),
+        lets: Map::default(),
         let_order: Vec::new(),
         blocks: HashMap::new(),
-        names: HashMap::new(),
+        names: Map::default(),
         nodes: vec!["gnd".into()],
-        node_index: HashMap::from([("gnd".to_string(), NodeId::GND)]),
+        node_index: std::iter::once(("gnd".to_string(), NodeId::GND)).collect(),
         node_span: vec![Span::default()],
         node_connections: vec![0],
         parts: Vec::new(),
-        part_index: HashMap::new(),
+        part_index: Map::default(),
         part_name_span: Vec::new(),
         bad_blocks: HashSet::new(),
         failed_parts: HashSet::new(),
@@ -109,16 +146,16 @@ pub(crate) fn elaborate(
 struct Elaborator<'a> {
     source: &'a str,
     diags: &'a mut Vec<Diagnostic>,
-    lets: HashMap<String, LetBinding>,
+    lets: Map<String, LetBinding>,
     let_order: Vec<String>,
     blocks: HashMap<String, &'a BlockDef>,
-    names: HashMap<String, (NameKind, Span)>,
+    names: Map<String, (NameKind, Span)>,
     nodes: Vec<String>,
-    node_index: HashMap<String, NodeId>,
+    node_index: Map<String, NodeId>,
     node_span: Vec<Span>,
     node_connections: Vec<u32>,
     parts: Vec<Part>,
-    part_index: HashMap<String, PartId>,
+    part_index: Map<String, PartId>,
     part_name_span: Vec<Span>,
     bad_blocks: HashSet<String>,
     failed_parts: HashSet<String>,
@@ -142,6 +179,14 @@ impl<'a> Elaborator<'a> {
     }
 
     fn run(&mut self, statements: &'a [Stmt], overrides: &[(String, Expr, String)]) -> Circuit {
+        let n = statements.len();
+        self.names.reserve(2 * n);
+        self.node_index.reserve(n);
+        self.part_index.reserve(n);
+        self.parts.reserve(n);
+        self.nodes.reserve(n);
+        self.node_span.reserve(n);
+        self.node_connections.reserve(n);
         let mut title = None;
         for stmt in statements {
             if let StmtKind::Block(def) = &stmt.kind {
@@ -170,11 +215,9 @@ impl<'a> Elaborator<'a> {
         self.renumber_nodes();
         let mut circuit = Circuit {
             title,
-            nodes: std::mem::take(&mut self.nodes),
             parts: std::mem::take(&mut self.parts),
             ..Circuit::default()
         };
-        self.nodes.clone_from(&circuit.nodes);
         if circuit.parts.is_empty() && !self.diags.iter().any(Diagnostic::is_error) {
             let end = self.source.len();
             self.error(
@@ -185,8 +228,17 @@ impl<'a> Elaborator<'a> {
             .expected = Some("expected at least one part (`resistor`, `vsrc`, …)".into());
         }
         self.analyses(statements, &mut circuit);
-        self.graph_checks(&circuit);
+        self.graph_checks(&circuit.parts);
         self.unused_lets();
+        circuit.nodes = std::mem::take(&mut self.nodes);
+        let texts: Vec<String> = circuit
+            .expectations
+            .iter()
+            .map(|e| crate::print::expectation_text(&circuit, e))
+            .collect();
+        for (e, text) in circuit.expectations.iter_mut().zip(texts) {
+            e.text = text;
+        }
         circuit
     }
 
@@ -325,10 +377,21 @@ impl<'a> Elaborator<'a> {
     /// Evaluates an expression; `None` (with a diagnostic) when it has no value.
     fn eval(&mut self, e: &Expr, scope: &Scope) -> Option<Quantity> {
         let q = match &e.kind {
-            ExprKind::Number(lit) => Quantity {
-                value: lit.value().ok()?,
-                dim: lit.dim(),
-            },
+            ExprKind::Number(lit) => {
+                let Ok(value) = lit.value() else {
+                    self.error(
+                        DiagnosticKind::NumberRange,
+                        e.span,
+                        "the number is out of range for a 64-bit float",
+                    )
+                    .expected = Some("out of range (about 1e-308 to 1e308)".into());
+                    return None;
+                };
+                Quantity {
+                    value,
+                    dim: lit.dim(),
+                }
+            }
             ExprKind::Pi => Quantity {
                 value: std::f64::consts::PI,
                 dim: Dim::Si(DIMENSIONLESS),
@@ -600,11 +663,12 @@ impl<'a> Elaborator<'a> {
             self.node_connections[n.index()] += 1;
             return n;
         }
-        let qualified = format!("{}{}", scope.prefix, id.name);
-        if let Some(&n) = self.node_index.get(&qualified) {
+        let qualified = qualify(&scope.prefix, &id.name);
+        if let Some(&n) = self.node_index.get(qualified.as_ref()) {
             self.node_connections[n.index()] += 1;
             return n;
         }
+        let qualified = qualified.into_owned();
         if let Some(&(kind, _)) = self.names.get(&qualified) {
             self.error(
                 DiagnosticKind::Duplicate,
@@ -631,7 +695,7 @@ impl<'a> Elaborator<'a> {
     }
 
     fn add_part(&mut self, p: &PartStmt, span: Span, scope: &Scope) {
-        let name = format!("{}{}", scope.prefix, p.name.name);
+        let name = qualify(&scope.prefix, &p.name.name).into_owned();
         let nodes: Vec<NodeId> = p.nodes.iter().map(|n| self.node_id(n, scope)).collect();
         let from: Vec<NodeId> = p.from.iter().map(|n| self.node_id(n, scope)).collect();
         if nodes.len() != p.keyword.n_nodes()
@@ -1293,14 +1357,6 @@ impl<'a> Elaborator<'a> {
                 circuit.expectations.push(e);
             }
         }
-        let texts: Vec<String> = circuit
-            .expectations
-            .iter()
-            .map(|e| crate::print::expectation_text(circuit, e))
-            .collect();
-        for (e, text) in circuit.expectations.iter_mut().zip(texts) {
-            e.text = text;
-        }
     }
 
     fn resolve_drive(&mut self, n: &Ident, circuit: &Circuit) -> Option<PartId> {
@@ -1813,10 +1869,11 @@ impl<'a> Elaborator<'a> {
 
     // ------------------------------------------------------------ checks
 
-    fn graph_checks(&mut self, circuit: &Circuit) {
-        let n = circuit.nodes.len();
+    fn graph_checks(&mut self, parts: &[Part]) {
+        let nodes = std::mem::take(&mut self.nodes);
+        let n = nodes.len();
         let mut parent: Vec<u32> = (0..n as u32).collect();
-        for part in &circuit.parts {
+        for part in parts {
             for (a, b) in conductive_pairs(&part.kind) {
                 union(&mut parent, a.0, b.0);
             }
@@ -1832,11 +1889,7 @@ impl<'a> Elaborator<'a> {
         let mut groups: Vec<Vec<usize>> = groups.into_values().collect();
         groups.sort_by_key(|g| g[0]);
         for group in groups {
-            let names: Vec<&str> = group
-                .iter()
-                .take(6)
-                .map(|&i| circuit.nodes[i].as_str())
-                .collect();
+            let names: Vec<&str> = group.iter().take(6).map(|&i| nodes[i].as_str()).collect();
             let message = if group.len() == 1 {
                 format!("node `{}` has no path to `gnd` through any part", names[0])
             } else {
@@ -1864,7 +1917,7 @@ impl<'a> Elaborator<'a> {
             if self.node_connections[node] != 1 {
                 continue;
             }
-            let name = &circuit.nodes[node];
+            let name = &nodes[node];
             let mut d = Diagnostic::warning(
                 DiagnosticKind::SingleConnection,
                 self.node_span[node],
@@ -1873,8 +1926,7 @@ impl<'a> Elaborator<'a> {
             .with_expected("nothing else connects here");
             if suggestions < 50 {
                 suggestions += 1;
-                let others = circuit
-                    .nodes
+                let others = nodes
                     .iter()
                     .enumerate()
                     .filter(|&(i, _)| i != node)
@@ -1885,6 +1937,7 @@ impl<'a> Elaborator<'a> {
             }
             self.diags.push(d);
         }
+        self.nodes = nodes;
     }
 
     fn unused_lets(&mut self) {

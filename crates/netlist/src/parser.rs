@@ -357,6 +357,7 @@ fn literal(i: In<'_>) -> PResult<'_, (Literal, Span)> {
         exponent: 0,
         prefix: None,
         unit: None,
+        cached: None,
     };
     let frag = *i.fragment();
     let mut chars = frag.chars();
@@ -448,9 +449,9 @@ fn exponent(i: In<'_>) -> Option<(In<'_>, i64)> {
     Some((j, if negative { -value } else { value }))
 }
 
-fn finish_literal<'a>(start: In<'a>, i: In<'a>, lit: Literal) -> PResult<'a, (Literal, Span)> {
+fn finish_literal<'a>(start: In<'a>, i: In<'a>, mut lit: Literal) -> PResult<'a, (Literal, Span)> {
     let span = span_of(&start, &i);
-    match lit.value() {
+    match lit.cache() {
         Ok(_) => Ok((i, (lit, span))),
         Err(e) => {
             let what = match e {
@@ -593,7 +594,10 @@ fn signed_literal(i: In<'_>) -> PResult<'_, (Literal, Span)> {
     } else {
         literal(i)?
     };
-    lit.negative = negative == Some(true);
+    if negative == Some(true) {
+        lit.negative = true;
+        lit.cached = lit.cached.map(|v| -v);
+    }
     Ok((i, (lit, Span::new(start.location_offset(), span.end))))
 }
 
@@ -834,6 +838,8 @@ fn share_unit(low: &mut Expr, high: &Expr) {
             lo.prefix = hi.prefix;
         }
         lo.unit = hi.unit;
+        // The lower end read fine without the unit; with it, it can only shift in scale.
+        let _ = lo.cache();
     }
 }
 
@@ -1397,7 +1403,8 @@ fn comment_start(line: &str) -> usize {
 
 /// Parses a whole source: every line's statement, blocks grouped, and every error.
 pub(crate) fn parse(source: &str) -> (Vec<Stmt>, Vec<Diagnostic>) {
-    let mut statements = Vec::new();
+    let n_lines = source.bytes().filter(|&b| b == b'\n').count() + 1;
+    let mut statements = Vec::with_capacity(n_lines);
     let mut diagnostics = Vec::new();
     let mut rest = LocatedSpan::new(source);
     while !rest.fragment().is_empty() {
@@ -1473,7 +1480,7 @@ pub(crate) fn parse_expression(text: &str) -> Result<Expr, Diagnostic> {
 
 /// Puts `block … end` together and checks what may appear inside a block.
 fn group_blocks(statements: Vec<Stmt>, diagnostics: &mut Vec<Diagnostic>) -> Vec<Stmt> {
-    let mut top = Vec::new();
+    let mut top = Vec::with_capacity(statements.len());
     let mut open: Option<(BlockDef, Span)> = None;
     for stmt in statements {
         match stmt.kind {

@@ -298,6 +298,8 @@ pub(crate) struct Literal {
     pub prefix: Option<i64>,
     /// The unit, if written (`R` codes imply Ω).
     pub unit: Option<UnitSym>,
+    /// The value, once computed by [`Literal::cache`].
+    pub cached: Option<f64>,
 }
 
 /// Why a literal has no finite value.
@@ -313,6 +315,21 @@ impl Literal {
     /// The value in SI units (a percentage as a fraction, dB/oct as dB/dec), rounded
     /// once from the decimal text, so `4k7`, `4.7k` and `4700` are the same number.
     pub(crate) fn value(&self) -> Result<f64, LiteralError> {
+        if let Some(v) = self.cached {
+            return Ok(v);
+        }
+        self.compute()
+    }
+
+    /// Stores the value, so later reads need no parsing.
+    pub(crate) fn cache(&mut self) -> Result<f64, LiteralError> {
+        self.cached = None;
+        let v = self.compute()?;
+        self.cached = Some(v);
+        Ok(v)
+    }
+
+    fn compute(&self) -> Result<f64, LiteralError> {
         let mut exponent = self.exponent.saturating_add(self.prefix.unwrap_or(0));
         if self.unit == Some(UnitSym::Percent) {
             exponent = exponent.saturating_sub(2);
