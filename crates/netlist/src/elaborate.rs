@@ -68,6 +68,19 @@ pub(crate) struct Quantity {
     pub dim: Dim,
 }
 
+/// Where a value stands, for messages (`the resistance of `R1``); formatted only when
+/// there is something to report.
+struct Place<'p> {
+    what: &'p str,
+    name: &'p str,
+}
+
+impl std::fmt::Display for Place<'_> {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "the {} of `{}`", self.what, self.name)
+    }
+}
+
 /// A `let` binding.
 #[derive(Debug)]
 struct LetBinding {
@@ -250,19 +263,26 @@ impl<'a> Elaborator<'a> {
         let mut new_id = vec![u32::MAX; n];
         new_id[0] = 0;
         let mut next = 1u32;
-        for part in &self.parts {
-            for node in part.kind.nodes() {
+        for part in &mut self.parts {
+            for_each_node(&mut part.kind, |node: &mut NodeId| {
                 if new_id[node.index()] == u32::MAX {
                     new_id[node.index()] = next;
                     next += 1;
                 }
-            }
+            });
         }
         for id in &mut new_id {
             if *id == u32::MAX {
                 *id = next;
                 next += 1;
             }
+        }
+        if new_id
+            .iter()
+            .enumerate()
+            .all(|(old, &new)| old as u32 == new)
+        {
+            return;
         }
         let map = |id: &mut NodeId| *id = NodeId(new_id[id.index()]);
         for part in &mut self.parts {
@@ -603,7 +623,13 @@ impl<'a> Elaborator<'a> {
     }
 
     /// Evaluates a value that must fit `expected`; an error shows both dimensions.
-    fn value_of(&mut self, e: &Expr, scope: &Scope, expected: Dim, place: &str) -> Option<f64> {
+    fn value_of(
+        &mut self,
+        e: &Expr,
+        scope: &Scope,
+        expected: Dim,
+        place: &dyn std::fmt::Display,
+    ) -> Option<f64> {
         let q = self.eval(e, scope)?;
         if q.dim.fits(expected) {
             return Some(q.value);
@@ -635,7 +661,13 @@ impl<'a> Elaborator<'a> {
     }
 
     /// Like [`Self::value_of`], and the value must be positive.
-    fn positive(&mut self, e: &Expr, scope: &Scope, expected: Dim, place: &str) -> Option<f64> {
+    fn positive(
+        &mut self,
+        e: &Expr,
+        scope: &Scope,
+        expected: Dim,
+        place: &dyn std::fmt::Display,
+    ) -> Option<f64> {
         let v = self.value_of(e, scope, expected, place)?;
         if v > 0.0 {
             return Some(v);
@@ -780,7 +812,10 @@ impl<'a> Elaborator<'a> {
         let Some(PartOption::Value(_, e)) = Self::option(p, key) else {
             return Ok(None);
         };
-        let place = format!("the {what} of `{}`", p.name.name);
+        let place = Place {
+            what,
+            name: &p.name.name,
+        };
         let v = if positive {
             self.positive(e, scope, dim, &place)
         } else {
@@ -844,7 +879,10 @@ impl<'a> Elaborator<'a> {
                         e,
                         scope,
                         dim,
-                        &format!("the amplitude of `{}`", p.name.name),
+                        &Place {
+                            what: "amplitude",
+                            name: &p.name.name,
+                        },
                     )),
                     Some(PartValue::Fit { span, .. }) => {
                         self.error(
@@ -967,7 +1005,10 @@ impl<'a> Elaborator<'a> {
         dim: Dim,
         what: &str,
     ) -> (Option<f64>, Option<FitRange>) {
-        let place = format!("the {what} of `{}`", p.name.name);
+        let place = Place {
+            what,
+            name: &p.name.name,
+        };
         match &p.value {
             Some(PartValue::Expr(e)) => (self.positive(e, scope, dim, &place), None),
             Some(PartValue::Fit { range, .. }) => {
@@ -978,13 +1019,19 @@ impl<'a> Elaborator<'a> {
                             lo,
                             scope,
                             dim,
-                            &format!("the lower end of the fit range of `{}`", p.name.name),
+                            &Place {
+                                what: "lower end of the fit range",
+                                name: &p.name.name,
+                            },
                         );
                         let hi_v = self.positive(
                             hi,
                             scope,
                             dim,
-                            &format!("the upper end of the fit range of `{}`", p.name.name),
+                            &Place {
+                                what: "upper end of the fit range",
+                                name: &p.name.name,
+                            },
                         );
                         let (Some(low), Some(high)) = (lo, hi_v) else {
                             return (None, None);
@@ -1024,7 +1071,10 @@ impl<'a> Elaborator<'a> {
             return Ok(None);
         };
         let plain = Dim::Percent;
-        let place = format!("the tolerance of `{}`", p.name.name);
+        let place = Place {
+            what: "tolerance",
+            name: &p.name.name,
+        };
         let low = self.value_of(lo, scope, plain, &place).ok_or(())?;
         let (lower, upper, span) = match hi {
             None => {
@@ -1061,7 +1111,10 @@ impl<'a> Elaborator<'a> {
         let Some(PartOption::Swing(lo, hi)) = Self::option(p, "swing") else {
             return Ok(None);
         };
-        let place = format!("the output swing of `{}`", p.name.name);
+        let place = Place {
+            what: "output swing",
+            name: &p.name.name,
+        };
         let low = self.value_of(lo, scope, Dim::Si(VOLT), &place);
         let high = self.value_of(hi, scope, Dim::Si(VOLT), &place);
         let (low, high) = (low.ok_or(())?, high.ok_or(())?);
@@ -1394,7 +1447,13 @@ impl<'a> Elaborator<'a> {
         self.diags.push(d);
     }
 
-    fn frequency(&mut self, e: &Expr, scope: &Scope, place: &str, allow_zero: bool) -> Option<f64> {
+    fn frequency(
+        &mut self,
+        e: &Expr,
+        scope: &Scope,
+        place: &dyn std::fmt::Display,
+        allow_zero: bool,
+    ) -> Option<f64> {
         let v = self.value_of(e, scope, Dim::Si(HERTZ), place)?;
         if v > 0.0 || (allow_zero && v == 0.0) {
             return Some(v);
@@ -1420,9 +1479,9 @@ impl<'a> Elaborator<'a> {
                 stop,
                 per_decade,
             } => {
-                let f1 = self.frequency(start, scope, "the start of a logarithmic sweep", false);
-                let f2 = self.frequency(stop, scope, "the end of the sweep", false);
-                let n = self.value_of(per_decade, scope, Dim::Si(DIMENSIONLESS), "`per_decade`");
+                let f1 = self.frequency(start, scope, &"the start of a logarithmic sweep", false);
+                let f2 = self.frequency(stop, scope, &"the end of the sweep", false);
+                let n = self.value_of(per_decade, scope, Dim::Si(DIMENSIONLESS), &"`per_decade`");
                 let (f1, f2, n) = (f1?, f2?, n?);
                 if n.fract() != 0.0 || !(1.0..=100_000.0).contains(&n) {
                     self.error(
@@ -1461,9 +1520,9 @@ impl<'a> Elaborator<'a> {
                 })
             }
             SweepStmt::Linear { start, stop, step } => {
-                let f1 = self.frequency(start, scope, "the start of a linear sweep", true);
-                let f2 = self.frequency(stop, scope, "the end of the sweep", false);
-                let df = self.frequency(step, scope, "the step", false);
+                let f1 = self.frequency(start, scope, &"the start of a linear sweep", true);
+                let f2 = self.frequency(stop, scope, &"the end of the sweep", false);
+                let df = self.frequency(step, scope, &"the step", false);
                 let (f1, f2, df) = (f1?, f2?, df?);
                 if f2 <= f1 {
                     self.error(
@@ -1495,7 +1554,7 @@ impl<'a> Elaborator<'a> {
             SweepStmt::List(points) => {
                 let values: Vec<Option<f64>> = points
                     .iter()
-                    .map(|p| self.frequency(p, scope, "a sweep frequency", true))
+                    .map(|p| self.frequency(p, scope, &"a sweep frequency", true))
                     .collect();
                 values
                     .into_iter()
@@ -1571,7 +1630,7 @@ impl<'a> Elaborator<'a> {
             return None;
         }
         let reference = match &p.reference {
-            Some(e) => Some(self.frequency(e, scope, "the reference frequency", false)?),
+            Some(e) => Some(self.frequency(e, scope, &"the reference frequency", false)?),
             None => None,
         };
         Some(Probe {
@@ -1660,7 +1719,7 @@ impl<'a> Elaborator<'a> {
                         ok = false;
                         continue;
                     }
-                    match self.frequency(e, scope, "a metric's frequency", false) {
+                    match self.frequency(e, scope, &"a metric's frequency", false) {
                         Some(f) => freqs.push(f),
                         None => ok = false,
                     }
@@ -1680,10 +1739,10 @@ impl<'a> Elaborator<'a> {
                         ok = false;
                     } else if is_ref {
                         options.reference =
-                            self.frequency(e, scope, "the reference frequency", false);
+                            self.frequency(e, scope, &"the reference frequency", false);
                         ok &= options.reference.is_some();
                     } else {
-                        options.level_db = self.bound(e, scope, Unit::Decibel, "the level");
+                        options.level_db = self.bound(e, scope, Unit::Decibel, &"the level");
                         ok &= options.level_db.is_some();
                     }
                 }
@@ -1731,7 +1790,13 @@ impl<'a> Elaborator<'a> {
 
     /// A comparison bound converted to the metric's unit; a bare number is refused
     /// unless the unit is a plain number.
-    fn bound(&mut self, e: &Expr, scope: &Scope, unit: Unit, place: &str) -> Option<f64> {
+    fn bound(
+        &mut self,
+        e: &Expr,
+        scope: &Scope,
+        unit: Unit,
+        place: &dyn std::fmt::Display,
+    ) -> Option<f64> {
         let q = self.eval(e, scope)?;
         let wanted = unit_dim(unit);
         if unit == Unit::Dimensionless {
@@ -1779,16 +1844,16 @@ impl<'a> Elaborator<'a> {
     fn comparison(&mut self, c: &CmpSyntax, unit: Unit, scope: &Scope) -> Option<Comparison> {
         let place = "the bound";
         Some(match c {
-            CmpSyntax::Less(e) => Comparison::Less(self.bound(e, scope, unit, place)?),
-            CmpSyntax::LessEqual(e) => Comparison::LessEqual(self.bound(e, scope, unit, place)?),
-            CmpSyntax::Greater(e) => Comparison::Greater(self.bound(e, scope, unit, place)?),
+            CmpSyntax::Less(e) => Comparison::Less(self.bound(e, scope, unit, &place)?),
+            CmpSyntax::LessEqual(e) => Comparison::LessEqual(self.bound(e, scope, unit, &place)?),
+            CmpSyntax::Greater(e) => Comparison::Greater(self.bound(e, scope, unit, &place)?),
             CmpSyntax::GreaterEqual(e) => {
-                Comparison::GreaterEqual(self.bound(e, scope, unit, place)?)
+                Comparison::GreaterEqual(self.bound(e, scope, unit, &place)?)
             }
             CmpSyntax::Within(lo, hi) => {
                 let (low, high) = (
-                    self.bound(lo, scope, unit, "the lower bound"),
-                    self.bound(hi, scope, unit, "the upper bound"),
+                    self.bound(lo, scope, unit, &"the lower bound"),
+                    self.bound(hi, scope, unit, &"the upper bound"),
                 );
                 let (low, high) = (low?, high?);
                 if low > high {
@@ -1804,7 +1869,7 @@ impl<'a> Elaborator<'a> {
                 Comparison::Within { low, high }
             }
             CmpSyntax::Equal(e, tol) => {
-                let value = self.bound(e, scope, unit, "the value");
+                let value = self.bound(e, scope, unit, &"the value");
                 let deviation = match tol {
                     Some(t) => self.deviation(t, scope, unit).map(|d| match d {
                         // A bare tolerance is in the value's unit as written: dB/oct
@@ -1970,7 +2035,7 @@ impl WithNote for Diagnostic {
 }
 
 /// Applies `f` to every node of a part.
-fn for_each_node(kind: &mut PartKind, f: impl Fn(&mut NodeId)) {
+fn for_each_node(kind: &mut PartKind, mut f: impl FnMut(&mut NodeId)) {
     match kind {
         PartKind::Resistor { a, b, .. }
         | PartKind::Capacitor { a, b, .. }

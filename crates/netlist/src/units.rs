@@ -335,8 +335,7 @@ impl Literal {
             exponent = exponent.saturating_sub(2);
         }
         let sign = if self.negative { "-" } else { "" };
-        let text = format!("{sign}{}e{exponent}", self.digits);
-        let mut value: f64 = text.parse().map_err(|_| LiteralError::Overflow)?;
+        let mut value = parse_decimal(sign, &self.digits, exponent)?;
         if self.unit == Some(UnitSym::DbPerOctave) {
             value *= std::f64::consts::LOG2_10;
         }
@@ -353,6 +352,23 @@ impl Literal {
     pub(crate) fn dim(&self) -> Dim {
         self.unit.map_or(Dim::Unknown, UnitSym::dim)
     }
+}
+
+/// Reads `sign digits e exponent` as a correctly rounded float, without allocating
+/// for the usual short literals.
+fn parse_decimal(sign: &str, digits: &str, exponent: i64) -> Result<f64, LiteralError> {
+    use std::io::Write as _;
+    let mut buffer = [0u8; 64];
+    let mut cursor = std::io::Cursor::new(&mut buffer[..]);
+    if write!(cursor, "{sign}{digits}e{exponent}").is_ok() {
+        let len = cursor.position() as usize;
+        if let Ok(text) = std::str::from_utf8(&buffer[..len]) {
+            return text.parse().map_err(|_| LiteralError::Overflow);
+        }
+    }
+    format!("{sign}{digits}e{exponent}")
+        .parse()
+        .map_err(|_| LiteralError::Overflow)
 }
 
 /// Formats `value` as the shortest decimal text that reads back to exactly the same
