@@ -17,7 +17,7 @@ use std::fmt::Write as _;
 use std::fs;
 use std::path::{Path, PathBuf};
 
-use rolloff_mna::Analyzer;
+use rolloff_mna::{Analyzer, DenseLu, LinearSolver};
 use rolloff_netlist::{
     Circuit, CompileOptions, Metric, MetricKind, MetricOptions, Severity, Target,
 };
@@ -136,7 +136,10 @@ fn every_case_has_its_expected_values() {
 
 #[test]
 fn reference_cases_match_their_sources() {
-    let runs: Vec<CaseRun> = case_names().iter().map(|name| run_case(name)).collect();
+    let runs: Vec<CaseRun> = case_names()
+        .iter()
+        .map(|name| run_case::<DenseLu>(name))
+        .collect();
     let table = failure_report(&runs);
     if std::env::var_os("UPDATE_VERIFICATION").is_some() {
         let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("docs/verification.md");
@@ -157,7 +160,31 @@ fn reference_cases_match_their_sources() {
     );
 }
 
-fn run_case(name: &str) -> CaseRun {
+/// The same cases through the sparse solver (the `sparse` feature): same references, same
+/// tolerances.
+#[cfg(feature = "sparse")]
+#[test]
+fn reference_cases_match_their_sources_with_the_sparse_solver() {
+    let runs: Vec<CaseRun> = case_names()
+        .iter()
+        .map(|name| run_case::<rolloff_mna::SparseLu>(name))
+        .collect();
+    let failed: Vec<&str> = runs
+        .iter()
+        .filter(|r| r.failed())
+        .map(|r| r.file.name.as_str())
+        .collect();
+    assert!(
+        failed.is_empty(),
+        "sparse solver: {} of {} reference cases failed: {}\n{}",
+        failed.len(),
+        runs.len(),
+        failed.join(", "),
+        failure_report(&runs)
+    );
+}
+
+fn run_case<S: LinearSolver>(name: &str) -> CaseRun {
     let dir = cases_dir();
     let json = fs::read_to_string(dir.join(format!("{name}.json"))).unwrap();
     let file: CaseFile = serde_json::from_str(&json).unwrap_or_else(|e| panic!("{name}.json: {e}"));
@@ -184,7 +211,7 @@ fn run_case(name: &str) -> CaseRun {
         run.problems.push("the case did not compile".to_string());
         return run;
     };
-    let mut analyzer = match Analyzer::new(&circuit) {
+    let mut analyzer = match Analyzer::<S>::with_solver(&circuit) {
         Ok(analyzer) => analyzer,
         Err(error) => {
             run.problems.push(format!("Analyzer::new: {error}"));
@@ -222,8 +249,8 @@ fn run_case(name: &str) -> CaseRun {
     run
 }
 
-fn measure_check(
-    analyzer: &mut Analyzer,
+fn measure_check<S: LinearSolver>(
+    analyzer: &mut Analyzer<S>,
     circuit: &Circuit,
     freqs: &[f64],
     check: &Check,
