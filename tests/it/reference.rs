@@ -516,7 +516,9 @@ fn verification_markdown(runs: &[CaseRun]) -> String {
          computes them; each case puts `ref` where the closed form holds to 1e-10.\n\
          - The Chebyshev ripple edge is checked as `cutoff_high` at level −(ripple) dB: the\n  \
          ripple minima inside the band touch that level exactly, so the report may count\n  \
-         them as (double) crossings; the ripple edge is the highest one."
+         them as (double) crossings; the ripple edge is the highest one.\n\
+         - The table is from the dense solver; `cargo test --features sparse` runs the same\n  \
+         cases, references and tolerances through the sparse solver as well."
     );
     let _ = writeln!(out, "\n## Looser tolerances and why\n");
     for run in runs {
