@@ -9,6 +9,7 @@
 
 pub mod args;
 pub mod csv;
+pub mod diagnostics;
 pub mod eng;
 pub mod input;
 pub mod junit;
