@@ -8,10 +8,12 @@
 //! share them; they are not a stable library API.
 
 pub mod args;
+pub mod commands;
 pub mod csv;
 pub mod diagnostics;
 pub mod eng;
 pub mod input;
+pub mod json;
 pub mod junit;
 pub mod svg;
 pub mod table;

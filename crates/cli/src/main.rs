@@ -3,11 +3,22 @@
 use std::process::ExitCode;
 
 use clap::{CommandFactory, Parser};
-use rolloff_cli::args::{Cli, Command};
+use rolloff_cli::args::{Cli, ColorWhen, Command};
+use rolloff_cli::commands::{self, Session, exit_code};
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
-    match cli.command {
+    let choice = match cli.color {
+        ColorWhen::Auto => anstream::ColorChoice::Auto,
+        ColorWhen::Always => anstream::ColorChoice::Always,
+        ColorWhen::Never => anstream::ColorChoice::Never,
+    };
+    choice.write_global();
+    let session = Session {
+        overrides: cli.set.clone(),
+    };
+    match &cli.command {
+        Command::Bias(args) => exit_code(commands::bias::run(args, &session)),
         Command::Completions(args) => {
             clap_complete::generate(
                 args.shell,
