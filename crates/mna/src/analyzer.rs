@@ -19,6 +19,8 @@ const J: Complex64 = Complex64::new(0.0, 1.0);
 const PIVOT_RATIO_TRIGGER: f64 = 1e-6;
 /// Pivot growth that triggers a condition estimate.
 const GROWTH_TRIGGER: f64 = 1e6;
+/// Pivot growth above which a warning is recorded (digits lost ≈ log10 of it).
+const GROWTH_WARNING: f64 = 1e8;
 /// Condition estimate above which a warning is recorded.
 const ILL_CONDITIONED: f64 = 1e12;
 /// Condition estimate above which no digit of the result can be trusted: an error.
@@ -396,7 +398,7 @@ impl<S: LinearSolver> Analyzer<S> {
                 condition: k.is_finite().then_some(k),
             });
         }
-        if k > ILL_CONDITIONED {
+        if k > ILL_CONDITIONED || report.growth > GROWTH_WARNING {
             let near = self.unknown_name(unknown);
             if let Some(i) = self.ill_warning {
                 if let Some(MnaWarning::IllConditioned {

@@ -12,8 +12,9 @@ use rolloff_netlist::Unit;
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 #[non_exhaustive]
 pub enum ReportError {
-    /// The solver failed at a frequency (its own message, kept as text).
-    #[error("the solver failed at {}: {message}", fmt_hz(*freq_hz))]
+    /// The solver failed at a frequency (its own message, kept as text; it names the
+    /// frequency where that matters).
+    #[error("{message}")]
     Solver {
         /// Frequency of the failed solve in Hz (0 for the DC solve).
         freq_hz: f64,

@@ -31,6 +31,7 @@ mod expect;
 mod format;
 mod numeric;
 mod snapshot;
+mod solver;
 mod source;
 mod summary;
 
@@ -44,7 +45,11 @@ pub use expect::{Verdict, judge, metric_name, metric_unit};
 pub use format::{DEFAULT_LEVEL_DB, fmt_db, fmt_hz, fmt_value};
 pub use snapshot::{
     CompareReport, Finding, NamedSource, ProbeSnapshot, SNAPSHOT_FORMAT, Snapshot, SnapshotMetric,
-    Thresholds, compare_sources, snapshot_sources,
+    Thresholds, compare_snapshots, compare_sources, snapshot_probe, snapshot_sources,
+};
+pub use solver::{
+    ProbeSource, analyze_circuit, analyze_probe, bias, check, compare, measure, measured_unit,
+    sweep_frequencies, take_snapshot,
 };
 pub use source::{ClosedForm, ResponseSource, SampledResponse};
 pub use summary::{ProbeSummary, analyze, measure_response};

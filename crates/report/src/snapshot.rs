@@ -122,7 +122,7 @@ pub fn snapshot_sources(
     sorted.dedup();
     let probes = probes
         .iter_mut()
-        .map(|p| probe_snapshot(p, &sorted))
+        .map(|p| snapshot_probe(&p.name, p.source, p.reference, &sorted))
         .collect();
     Snapshot {
         format: SNAPSHOT_FORMAT,
@@ -153,13 +153,20 @@ fn curves(source: &mut dyn ResponseSource, freqs: &[f64]) -> Result<Curves, Repo
     Ok((gain, phase))
 }
 
-fn probe_snapshot(probe: &mut NamedSource<'_>, freqs: &[f64]) -> ProbeSnapshot {
+/// One probe's entry of a snapshot: its curves at `freqs` (ascending, positive) and the
+/// summary's named values; failures are recorded in `error`, never thrown.
+pub fn snapshot_probe(
+    name: &str,
+    source: &mut dyn ResponseSource,
+    reference: Option<f64>,
+    freqs: &[f64],
+) -> ProbeSnapshot {
     let empty = || vec![None; freqs.len()];
-    let (gain_db, phase_deg, mut error) = match curves(probe.source, freqs) {
+    let (gain_db, phase_deg, mut error) = match curves(source, freqs) {
         Ok((g, p)) => (g, p, None),
         Err(e) => (empty(), empty(), Some(e.to_string())),
     };
-    let metrics = match analyze(probe.source, freqs, probe.reference) {
+    let metrics = match analyze(source, freqs, reference) {
         Ok(summary) => summary
             .named_values()
             .into_iter()
@@ -175,7 +182,7 @@ fn probe_snapshot(probe: &mut NamedSource<'_>, freqs: &[f64]) -> ProbeSnapshot {
         }
     };
     ProbeSnapshot {
-        name: probe.name.clone(),
+        name: name.to_string(),
         gain_db,
         phase_deg,
         metrics,
@@ -307,7 +314,24 @@ pub fn compare_sources(
     thresholds: &Thresholds,
 ) -> CompareReport {
     let now = snapshot_sources(snapshot.title.as_deref(), &snapshot.frequencies_hz, probes);
+    compare_snapshots(snapshot, &now, thresholds)
+}
+
+/// Compares a new snapshot (taken at the old one's frequencies) with an old one: per
+/// probe the worst gain and phase deviation (and where), and every named metric. A probe
+/// or metric present on one side only is a failure, and so is a change of frequencies.
+pub fn compare_snapshots(
+    snapshot: &Snapshot,
+    now: &Snapshot,
+    thresholds: &Thresholds,
+) -> CompareReport {
     let mut findings = Vec::new();
+    if now.frequencies_hz != snapshot.frequencies_hz {
+        findings.push(Finding {
+            quantity: "sweep frequencies differ".into(),
+            ..missing("", "", true)
+        });
+    }
     for old in &snapshot.probes {
         match now.probes.iter().find(|p| p.name == old.name) {
             Some(new) => compare_probe(

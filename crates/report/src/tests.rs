@@ -1,1 +1,2 @@
+mod circuits;
 mod closed_form;

@@ -593,3 +593,52 @@ fn analyzer_is_clone_and_send() {
     fn assert_send<T: Send + Clone>() {}
     assert_send::<Analyzer>();
 }
+
+#[test]
+fn rl_low_pass_over_the_value_range() {
+    // First-order RL low-pass: H = R / (R + jωL), fc = R/(2πL) (any circuits textbook).
+    for r in VALUES_R {
+        for l in [1e-9, 1e-6, 1e-3, 1.0, 1e3] {
+            let circuit = Circuit::builder()
+                .vsrc("V1", "in", "gnd", 1.0)
+                .inductor("L1", "in", "out", l)
+                .resistor("R1", "out", "gnd", r)
+                .build()
+                .unwrap();
+            let out = ProbeKind::Node(circuit.node("out").unwrap());
+            let i = ProbeKind::Current(circuit.part("L1").unwrap());
+            let mut a = Analyzer::new(&circuit).unwrap();
+            for f in FREQS {
+                let want = r / (r + jw(f) * l);
+                check(a.transfer(&out, f).unwrap(), want, 1e-9);
+                check(a.transfer(&i, f).unwrap(), want / r, 1e-9);
+            }
+            assert!(a.warnings().is_empty(), "{:?}", a.warnings());
+        }
+    }
+}
+
+#[test]
+fn series_rlc_at_extreme_values() {
+    // Series RLC voltage across C: H = 1/(1 − ω²LC + jωRC) (standard second-order
+    // result), with values at the ends of the supported ranges.
+    for (r, l, c) in [
+        (1e-3, 1e-9, 1e-15),
+        (1e12, 1e3, 1.0),
+        (1e-3, 1e3, 1e-15),
+        (1e12, 1e-9, 1.0),
+        (1.0, 1e3, 1.0),
+    ] {
+        let circuit = series_rlc(r, l, c);
+        let vc = ProbeKind::Node(circuit.node("b").unwrap());
+        let mut a = Analyzer::new(&circuit).unwrap();
+        for f in FREQS {
+            let s = jw(f);
+            check(
+                a.transfer(&vc, f).unwrap(),
+                1.0 / (1.0 + s * r * c + s * s * l * c),
+                1e-9,
+            );
+        }
+    }
+}

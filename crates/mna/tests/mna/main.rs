@@ -3,6 +3,7 @@
 
 mod closed_form;
 mod diagnostics;
+mod properties;
 
 use num_complex::Complex64;
 use rolloff_netlist::{NodeId, PartKind};

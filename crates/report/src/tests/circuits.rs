@@ -1,0 +1,383 @@
+//! Metrics, verdicts and snapshots on real circuits solved by `rolloff-mna`, checked
+//! against closed forms (named beside each check).
+
+#![allow(clippy::unwrap_used, clippy::expect_used)]
+
+use crate::*;
+use num_complex::Complex64;
+use rolloff_mna::Analyzer;
+use rolloff_netlist::{
+    Circuit, CompileOptions, Metric, MetricKind, MetricOptions, ProbeKind, Sweep, Target, compile,
+};
+use std::f64::consts::{FRAC_1_SQRT_2, PI};
+
+fn rel(a: f64, b: f64) -> f64 {
+    (a / b - 1.0).abs()
+}
+
+fn circuit_from(text: &str) -> Circuit {
+    let compiled = compile(text, &CompileOptions::default());
+    let errors: Vec<String> = compiled
+        .diagnostics
+        .iter()
+        .map(|d| rolloff_netlist::render_diagnostic(d, "test.rol", text))
+        .collect();
+    compiled
+        .circuit
+        .unwrap_or_else(|| panic!("{}", errors.join("\n")))
+}
+
+fn metric(circuit: &Circuit, kind: MetricKind, node: &str, reference: Option<f64>) -> Metric {
+    Metric {
+        kind,
+        target: Target::Node(circuit.node(node).unwrap()),
+        options: MetricOptions {
+            reference,
+            level_db: None,
+        },
+    }
+}
+
+const RC_HIGH_PASS: &str = r#"
+title "first-order high-pass, fc = 1/(2πRC) = 159.15 Hz"
+vsrc      V1 (in, gnd) 1 V  bias 5 V
+capacitor C1 (in, out) 100 nF
+resistor  R1 (out, gnd) 10k
+sweep 1 Hz to 100 kHz per_decade 40
+probe out
+probe zin
+expect cutoff(out) = 159.15 Hz ± 0.1 %
+expect phase(out, 159.155 Hz) = 45 deg ± 0.01 deg
+expect slope(out, 1.59155 Hz, 15.9155 Hz) = 20 dB/dec ± 0.1
+expect passband_gain(out) = 0 dB ± 0.001 dB
+expect impedance(zin, 1 kHz) >= 10 kΩ
+expect bias(C1) within 4.9 .. 5.1 V
+expect bias(out) within -1 .. 1 mV
+expect cutoff(out, level -6 dB) < 100 Hz
+"#;
+
+#[test]
+fn high_pass_from_text_meets_its_expectations() {
+    let circuit = circuit_from(RC_HIGH_PASS);
+    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let freqs = sweep_frequencies(&circuit);
+    let verdicts = check(&mut analyzer, &freqs);
+    assert_eq!(verdicts.len(), 8);
+    for v in &verdicts {
+        assert!(v.pass, "{v}");
+        assert!(v.margin.unwrap() >= 0.0);
+    }
+    // fc = 1/(2πRC) (first-order section, textbook): margin of the ±0.1 % band.
+    let fc = 1.0 / (2.0 * PI * 10e3 * 100e-9);
+    let cutoff = *verdicts[0].measured.as_ref().unwrap();
+    assert!(rel(cutoff, fc) < 1e-5);
+    assert_eq!(verdicts[0].bound, "= 159.2 Hz ± 0.1 %");
+    // |Zin| = |R + 1/(jωC)| at 1 kHz (series RC, textbook).
+    let z = Complex64::new(10e3, -1.0 / (2.0 * PI * 1e3 * 100e-9)).norm();
+    assert!(rel(*verdicts[4].measured.as_ref().unwrap(), z) < 1e-12);
+    // The whole bias sits across the coupling capacitor.
+    assert!((verdicts[5].measured.as_ref().unwrap() - 5.0).abs() < 1e-12);
+    // |H|² = x²/(1 + x²) = a with a = 10^(−6/10) at x = ωτ = √(a/(1 − a)) (first-order
+    // high-pass); the reference, 1e-5 dB under the asymptote, moves it by ~1e-6.
+    let a = 10f64.powf(-0.6);
+    let f6 = *verdicts[7].measured.as_ref().unwrap();
+    assert!(rel(f6, fc * (a / (1.0 - a)).sqrt()) < 1e-5);
+
+    let summary = analyze_probe(&mut analyzer, rolloff_netlist::ProbeId(0), &freqs).unwrap();
+    assert_eq!(summary.shape, Shape::HighPass);
+    // The gain at the cutoff is 1/√2 of the passband (−3 dB, common practice).
+    let mut source = ProbeSource::new(&mut analyzer, ProbeKind::Node(circuit.node("out").unwrap()));
+    let ratio = source.eval(summary.cutoffs[0].freq_hz).unwrap().norm()
+        / source.eval(summary.reference.freq_hz).unwrap().norm();
+    assert!((ratio - FRAC_1_SQRT_2).abs() < 1e-10);
+    assert!((summary.phase_at_cutoffs_deg[0].unwrap() - 45.0).abs() < 1e-3);
+    // Stopband slope over fc/100 .. fc/10: +20 dB/decade (common practice).
+    assert!((summary.stopband[0].near.unwrap().db_per_decade - 20.0).abs() < 0.1);
+    assert_eq!(summary.stopband[0].order, Some(1));
+}
+
+#[test]
+fn failing_and_unmeasurable_expectations_say_why() {
+    let text = r"
+vsrc      V1 (in, gnd) 1 V
+capacitor C1 (in, out) 100 nF
+resistor  R1 (out, gnd) 10k
+sweep 10 Hz to 1 MHz per_decade 20
+probe out
+expect cutoff(out) within 10 .. 100 Hz
+expect cutoff_high(out) < 1 kHz
+expect impedance(out, 1 kHz) >= 1 kΩ
+expect phase(out, 159.155 Hz) = 405 deg ± 1 deg
+expect phase(out, 159.155 Hz) > 50 deg
+expect gain(out, 1 Hz) > -100 dB
+expect bias(out) within -1 .. 1 V
+";
+    let circuit = circuit_from(text);
+    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let verdicts = check(&mut analyzer, &sweep_frequencies(&circuit));
+    let v = &verdicts[0];
+    assert!(!v.pass);
+    assert!(v.margin.unwrap() < -59.0 && v.margin.unwrap() > -60.0);
+    assert_eq!(
+        v.to_string(),
+        "FAIL: cutoff(out) within 10 Hz .. 100 Hz (measured 159.2 Hz, bound within 10 Hz .. 100 Hz)"
+    );
+    assert_eq!(
+        verdicts[1].to_string(),
+        "FAIL: cutoff_high(out) < 1 kHz (a high-pass response has no upper −3 dB point: the passband reaches up to 1 MHz; use cutoff)"
+    );
+    assert_eq!(verdicts[1].margin, None);
+    assert_eq!(
+        verdicts[2].measured.as_ref().unwrap_err().to_string(),
+        "impedance() needs a zin or zout probe; `out` is not one"
+    );
+    // On the circle 405° is 45°: passes. Unwrapped, 45° is not above 50°.
+    assert!(verdicts[3].pass, "{}", verdicts[3]);
+    assert!(!verdicts[4].pass);
+    // Outside the sweep a spot metric is still evaluated on the solver.
+    assert!(verdicts[5].pass, "{}", verdicts[5]);
+    // The output reaches gnd through R1 at DC, but `in` to `out` only through C1: the
+    // bias solve still works (V1 fixes `in`).
+    assert!(verdicts[6].pass, "{}", verdicts[6]);
+}
+
+#[test]
+fn bias_failure_names_the_node() {
+    // Two coupling capacitors in series: node `mid` has no DC path to gnd.
+    let circuit = Circuit::builder()
+        .vsrc("V1", "in", "gnd", 1.0)
+        .capacitor("C1", "in", "mid", 1e-6)
+        .capacitor("C2", "mid", "out", 1e-6)
+        .resistor("R1", "out", "gnd", 1e3)
+        .build()
+        .unwrap();
+    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let m = Metric {
+        kind: MetricKind::Bias,
+        target: Target::Node(circuit.node("mid").unwrap()),
+        options: MetricOptions::default(),
+    };
+    let e = measure(&mut analyzer, &m, &[1.0, 10.0]).unwrap_err();
+    assert!(e.to_string().starts_with("the bias solve failed: "), "{e}");
+    assert!(e.to_string().contains("`mid`"), "{e}");
+}
+
+/// C1 (in→n1), R1 (n1→gnd), C2 (n1→out), R2 (out→gnd), all R and C equal.
+fn two_hp_stages(r: f64, c: f64) -> Circuit {
+    Circuit::builder()
+        .vsrc("V1", "in", "gnd", 1.0)
+        .capacitor("C1", "in", "n1", c)
+        .resistor("R1", "n1", "gnd", r)
+        .capacitor("C2", "n1", "out", c)
+        .resistor("R2", "out", "gnd", r)
+        .probe_node("out")
+        .sweep(Sweep::Log {
+            start: 1.0,
+            stop: 1e6,
+            per_decade: 40,
+        })
+        .build()
+        .unwrap()
+}
+
+#[test]
+fn two_loaded_rc_stages_against_the_closed_form() {
+    let (r, c) = (10e3, 100e-9);
+    let tau = r * c;
+    let f_rc = 1.0 / (2.0 * PI * tau);
+    let circuit = two_hp_stages(r, c);
+    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let freqs = sweep_frequencies(&circuit);
+    let out = circuit.node("out").unwrap();
+    // s²τ²/(s²τ² + 3sτ + 1): two cascaded identical CR sections, the second loading the
+    // first (textbook result).
+    let closed = |f: f64| {
+        let s = Complex64::new(0.0, 2.0 * PI * f);
+        s * s * tau * tau / (s * s * tau * tau + 3.0 * s * tau + 1.0)
+    };
+    for &f in &freqs {
+        let h = analyzer.transfer(&ProbeKind::Node(out), f).unwrap();
+        assert!(
+            (h - closed(f)).norm() <= 1e-12 * closed(f).norm() + 1e-15,
+            "{f}"
+        );
+    }
+    // |H|² = 1/2 at x⁴ − 7x² − 1 = 0, x = ωτ: the corner moves up by 2.67×.
+    let x = f64::midpoint(53f64.sqrt(), 7.0).sqrt();
+    let fc = measure(
+        &mut analyzer,
+        &metric(&circuit, MetricKind::Cutoff, "out", Some(1e9)),
+        &freqs,
+    )
+    .unwrap();
+    assert!(rel(fc, x * f_rc) < 1e-9, "{fc}");
+    assert!(rel(fc, f_rc) > 1.0);
+    // At 1/(2πRC) the gain is 20·log10(1/3) = −9.54 dB, not −6 dB.
+    let g = measure(
+        &mut analyzer,
+        &metric(&circuit, MetricKind::Gain { freq: f_rc }, "out", None),
+        &freqs,
+    )
+    .unwrap();
+    assert!((g - 20.0 * (1.0f64 / 3.0).log10()).abs() < 1e-9);
+    let summary = analyze_probe(&mut analyzer, rolloff_netlist::ProbeId(0), &freqs).unwrap();
+    assert_eq!(summary.stopband[0].order, Some(2));
+}
+
+#[test]
+fn rlc_band_pass_and_notch_on_the_solver() {
+    let (r, l, c): (f64, f64, f64) = (100.0, 10e-3, 100e-9);
+    // Series RLC, output across R: f0 = 1/(2π√(LC)), BW = R/(2πL), Q = √(L/C)/R
+    // (textbook second-order band-pass).
+    let circuit = Circuit::builder()
+        .vsrc("V1", "in", "gnd", 1.0)
+        .inductor("L1", "in", "a", l)
+        .capacitor("C1", "a", "out", c)
+        .resistor("R1", "out", "gnd", r)
+        .probe_node("out")
+        .build()
+        .unwrap();
+    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let freqs = Sweep::Log {
+        start: 10.0,
+        stop: 1e6,
+        per_decade: 40,
+    }
+    .frequencies();
+    let f0 = 1.0 / (2.0 * PI * (l * c).sqrt());
+    let mut m = |kind| measure(&mut analyzer, &metric(&circuit, kind, "out", None), &freqs);
+    assert!(rel(m(MetricKind::Resonance).unwrap(), f0) < 1e-9);
+    assert!(rel(m(MetricKind::Bandwidth).unwrap(), r / (2.0 * PI * l)) < 1e-9);
+    assert!(rel(m(MetricKind::Q).unwrap(), (l / c).sqrt() / r) < 1e-9);
+
+    // Notch: R from in to out, L–C in series from out to gnd, zero at f0 exactly, and
+    // |H(f0)| = r/(R + r) with a loss r in series (textbook second-order notch).
+    let (big_r, loss) = (1e3, 1.0);
+    let circuit = Circuit::builder()
+        .vsrc("V1", "in", "gnd", 1.0)
+        .resistor("R1", "in", "out", big_r)
+        .inductor("L1", "out", "m", l)
+        .capacitor("C1", "m", "k", c)
+        .resistor("RL", "k", "gnd", loss)
+        .probe_node("out")
+        .build()
+        .unwrap();
+    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let mut m = |kind| {
+        measure(
+            &mut analyzer,
+            &metric(&circuit, kind, "out", Some(1e-3)),
+            &freqs,
+        )
+    };
+    assert!(rel(m(MetricKind::NotchFreq).unwrap(), f0) < 1e-9);
+    let depth = 20.0 * ((big_r + loss) / loss).log10();
+    assert!((m(MetricKind::NotchDepth).unwrap() - depth).abs() < 1e-6);
+}
+
+#[test]
+fn group_delay_on_the_solver_is_exact() {
+    // RC low-pass: τg = τ/(1 + (ωτ)²) (textbook), from the solver's exact derivative.
+    let (r, c) = (1e3, 1e-6);
+    let tau = r * c;
+    let circuit = Circuit::builder()
+        .vsrc("V1", "in", "gnd", 1.0)
+        .resistor("R1", "in", "out", r)
+        .capacitor("C1", "out", "gnd", c)
+        .probe_node("out")
+        .build()
+        .unwrap();
+    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let freqs = sweep_frequencies(&circuit);
+    for f in [1.0, 100.0, 159.154_943_091_895_35, 1e4] {
+        let w = 2.0 * PI * f;
+        let g = measure(
+            &mut analyzer,
+            &metric(&circuit, MetricKind::GroupDelay { freq: f }, "out", None),
+            &freqs,
+        )
+        .unwrap();
+        assert!(rel(g, tau / (1.0 + (w * tau).powi(2))) < 1e-9, "{f}");
+    }
+}
+
+#[test]
+fn summaries_for_every_probe() {
+    let circuit = circuit_from(RC_HIGH_PASS);
+    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let all = analyze_circuit(&mut analyzer, &sweep_frequencies(&circuit));
+    assert_eq!(all.len(), 2);
+    assert_eq!(all[0].0, "out");
+    assert_eq!(all[0].1.as_ref().unwrap().shape, Shape::HighPass);
+    // |Zin| = |R + 1/(jωC)| falls to R at high frequency: read as a low-pass of impedance.
+    let zin = all[1].1.as_ref().unwrap();
+    assert_eq!(zin.shape, Shape::LowPass);
+    assert!(zin.group_delay_s.is_some());
+}
+
+#[test]
+fn snapshot_round_trip_and_a_one_percent_change_is_caught() {
+    let circuit = circuit_from(RC_HIGH_PASS);
+    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let freqs = sweep_frequencies(&circuit);
+    let snapshot = take_snapshot(&mut analyzer, &freqs, Some("abc123".into()));
+    assert_eq!(snapshot.source_hash.as_deref(), Some("abc123"));
+    assert_eq!(snapshot.tool_version, env!("CARGO_PKG_VERSION"));
+    assert_eq!(snapshot.probes.len(), 2);
+    assert!(
+        snapshot.probes[0]
+            .metrics
+            .iter()
+            .any(|m| m.name == "cutoff")
+    );
+    let json = snapshot.to_json().unwrap();
+    assert!(!json.contains("NaN"));
+    let back = Snapshot::from_json(&json).unwrap();
+    assert_eq!(back, snapshot);
+
+    // The same circuit compares clean.
+    let same = compare(&mut analyzer, &back, &Thresholds::default());
+    assert!(same.pass(), "{:?}", same.failures().collect::<Vec<_>>());
+
+    // R1 up by 1 %: the cutoff moves by 1 % and the gain near it by ~0.04 dB.
+    let r1 = circuit.part("R1").unwrap();
+    let value = analyzer.part_value(r1).unwrap();
+    analyzer.set_part_value(r1, value * 1.01).unwrap();
+    let changed = compare(&mut analyzer, &back, &Thresholds::default());
+    assert!(!changed.pass());
+    let failures: Vec<&Finding> = changed.failures().collect();
+    assert!(
+        failures
+            .iter()
+            .any(|f| f.probe == "out" && f.quantity == "cutoff")
+    );
+    let cutoff = failures.iter().find(|f| f.quantity == "cutoff").unwrap();
+    assert!((cutoff.deviation.unwrap() - 1.0 / 101.0).abs() < 1e-4);
+    let worst = changed.worst().unwrap();
+    assert!(worst.exceeded);
+    // The worst gain deviation is where the slope is: in the stopband, 20·log10(1.01).
+    let gain = failures
+        .iter()
+        .find(|f| f.probe == "out" && f.quantity == "gain")
+        .unwrap();
+    assert!((gain.deviation.unwrap() - 20.0 * 1.01f64.log10()).abs() < 1e-3);
+    assert!(gain.at_hz.unwrap() < 2.0);
+    assert!(gain.to_string().starts_with("out gain at 1 Hz: "));
+}
+
+#[test]
+fn snapshot_rejects_bad_json() {
+    let e = Snapshot::from_json("{\"format\": 1}").unwrap_err();
+    assert!(
+        e.to_string().starts_with("bad snapshot: missing field"),
+        "{e}"
+    );
+    let e = Snapshot::from_json(
+        r#"{"format": 9, "tool_version": "x", "source_hash": null, "title": null, "frequencies_hz": [], "probes": []}"#,
+    )
+    .unwrap_err();
+    assert_eq!(
+        e.to_string(),
+        "bad snapshot: snapshot format 9 is not the supported format 1"
+    );
+}
