@@ -130,6 +130,31 @@ pub fn machine(value: f64) -> String {
     }
 }
 
+/// A value in a language unit, the way tables show it: engineering notation for SI
+/// quantities (`632.8 Hz`, `53.62 kΩ`), two decimals for dB, one for degrees and
+/// dB/decade, three significant decimals for plain numbers.
+pub fn quantity(value: f64, unit: rolloff_netlist::Unit) -> String {
+    use rolloff_netlist::Unit;
+    match unit {
+        Unit::Decibel => fixed_unit(value, 2, "dB"),
+        Unit::Degree => fixed_unit(value, 1, "°"),
+        Unit::DecibelPerDecade => fixed_unit(value, 1, "dB/dec"),
+        Unit::Dimensionless => fixed(value, 3),
+        other => eng(value, other.symbol()),
+    }
+}
+
+/// Like [`quantity`] with an explicit sign (`+62.78 Hz`, `-0.12 dB`), for margins.
+pub fn signed_quantity(value: f64, unit: rolloff_netlist::Unit) -> String {
+    let text = quantity(value, unit);
+    let non_zero = text.chars().any(|c| c.is_ascii_digit() && c != '0');
+    if value > 0.0 && text != NOT_A_NUMBER && non_zero {
+        format!("+{text}")
+    } else {
+        text
+    }
+}
+
 #[cfg(test)]
 #[allow(clippy::unwrap_used)]
 mod tests {
@@ -228,6 +253,22 @@ mod tests {
         assert_eq!(fixed(45.0, 1), "45.0");
         assert_eq!(fixed_unit(-45.04, 1, "°"), "-45.0°");
         assert_eq!(fixed_unit(20.834, 2, "dB"), "20.83 dB");
+    }
+
+    #[test]
+    fn quantities_follow_their_unit() {
+        use rolloff_netlist::Unit;
+        assert_eq!(quantity(632.8, Unit::Hertz), "632.8 Hz");
+        assert_eq!(quantity(20.434, Unit::Decibel), "20.43 dB");
+        assert_eq!(quantity(-54.83, Unit::Degree), "-54.8°");
+        assert_eq!(quantity(-60.46, Unit::DecibelPerDecade), "-60.5 dB/dec");
+        assert_eq!(quantity(53_624.0, Unit::Ohm), "53.62 kΩ");
+        assert_eq!(quantity(0.018_2, Unit::Dimensionless), "0.018");
+        assert_eq!(signed_quantity(62.78, Unit::Hertz), "+62.78 Hz");
+        assert_eq!(signed_quantity(-0.12, Unit::Decibel), "-0.12 dB");
+        assert_eq!(signed_quantity(0.0, Unit::Decibel), "0.00 dB");
+        assert_eq!(signed_quantity(0.27, Unit::Decibel), "+0.27 dB");
+        assert_eq!(signed_quantity(0.001, Unit::Decibel), "0.00 dB");
     }
 
     #[test]

@@ -19,6 +19,9 @@ fn main() -> ExitCode {
     };
     match &cli.command {
         Command::Bias(args) => exit_code(commands::bias::run(args, &session)),
+        Command::Sweep(args) => exit_code(commands::sweep::run(args, &session)),
+        Command::Check(args) => exit_code(commands::check::run(args, &session)),
+        Command::Report(args) => exit_code(commands::report::run(args, &session)),
         Command::Completions(args) => {
             clap_complete::generate(
                 args.shell,

@@ -2,6 +2,9 @@
 //! diagnostics and the outcome that becomes the exit code.
 
 pub mod bias;
+pub mod check;
+pub mod report;
+pub mod sweep;
 
 use std::path::Path;
 use std::process::ExitCode;
@@ -44,7 +47,7 @@ pub struct Session {
 impl Session {
     /// Prints an error that refers to no source text and returns [`Reported`].
     pub fn error(&self, message: &str) -> Reported {
-        anstream::eprint!(
+        anstream::eprintln!(
             "{}",
             diagnostics::render_plain(Severity::Error, message, true)
         );
@@ -53,7 +56,7 @@ impl Session {
 
     /// Prints a warning that refers to no source text.
     pub fn warning(&self, message: &str) {
-        anstream::eprint!(
+        anstream::eprintln!(
             "{}",
             diagnostics::render_plain(Severity::Warning, message, true)
         );
@@ -61,7 +64,7 @@ impl Session {
 
     /// Prints a message against its source.
     pub fn message(&self, message: &Message, source: &Source) {
-        anstream::eprint!(
+        anstream::eprintln!(
             "{}",
             diagnostics::render(message, &source.name, &source.text, true)
         );
@@ -164,8 +167,10 @@ impl Session {
         for diagnostic in &compiled.diagnostics {
             self.message(&message_of(diagnostic), &source);
         }
+        let has_errors = compiled.has_errors();
         match compiled.circuit.and_then(|c| c.sweep) {
             Some(sweep) => Ok(sweep.frequencies()),
+            None if has_errors => Err(Reported),
             None => Err(self.error("the sweep options do not describe a sweep")),
         }
     }

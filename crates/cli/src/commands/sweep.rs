@@ -175,7 +175,10 @@ impl SweepView {
 
 /// Whether a probe gives an impedance in Ω rather than a transfer.
 pub fn is_impedance(kind: &ProbeKind) -> bool {
-    matches!(kind, ProbeKind::InputImpedance | ProbeKind::OutputImpedance(_))
+    matches!(
+        kind,
+        ProbeKind::InputImpedance | ProbeKind::OutputImpedance(_)
+    )
 }
 
 /// What a transfer probe's dB are relative to, from the kinds of probe and drive (the
