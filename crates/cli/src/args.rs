@@ -206,15 +206,16 @@ pub struct CompareArgs {
     /// The snapshot written earlier by `rolloff snapshot`.
     #[arg(value_name = "SNAPSHOT.json")]
     pub snapshot: PathBuf,
-    /// Largest allowed gain difference in dB.
-    #[arg(long, value_name = "DB", default_value_t = 0.1)]
-    pub max_db: f64,
-    /// Largest allowed phase difference in degrees.
-    #[arg(long, value_name = "DEG", default_value_t = 1.0)]
-    pub max_deg: f64,
-    /// Largest allowed relative change of a metric (0.01 is 1 %).
-    #[arg(long, value_name = "FRACTION", default_value_t = 0.01)]
-    pub max_rel: f64,
+    /// Largest allowed gain difference in dB (also for dB metrics; default 0.01).
+    #[arg(long, value_name = "DB")]
+    pub max_db: Option<f64>,
+    /// Largest allowed phase difference in degrees (default 0.1).
+    #[arg(long, value_name = "DEG")]
+    pub max_deg: Option<f64>,
+    /// Largest allowed relative change of a frequency or other metric (0.001 is 0.1 %,
+    /// the default).
+    #[arg(long, value_name = "FRACTION")]
+    pub max_rel: Option<f64>,
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Table)]
     pub format: Format,

@@ -29,6 +29,8 @@ pub struct Message {
     pub label: Option<String>,
     /// A suggestion shown as `= help: …`.
     pub help: Option<String>,
+    /// Further facts shown as `= note: …`.
+    pub notes: Vec<String>,
 }
 
 /// Renders `message` against `source` named `file_name`, with ANSI styles when
@@ -56,6 +58,9 @@ pub fn render(message: &Message, file_name: &str, source: &str, styled: bool) ->
         Some(help) => group.element(Level::HELP.message(help.as_str())),
         None => group,
     };
+    let group = message.notes.iter().fold(group, |g, note| {
+        g.element(Level::NOTE.message(note.as_str()))
+    });
     let report = [group];
     renderer(styled).render(&report)
 }
@@ -106,6 +111,7 @@ mod tests {
             span: Some(42..47),
             label: Some("expected a capacitance (F), found H".into()),
             help: Some("write the value in farads, like `10 uF`".into()),
+            notes: vec!["`10 uH` is 10 µH".into()],
         };
         let text = render(&message, "filter.rol", SOURCE, false);
         let expected = "\
@@ -116,6 +122,7 @@ error: wrong unit for a capacitance
   |                     ^^^^^ expected a capacitance (F), found H
   |
   = help: write the value in farads, like `10 uF`
+  = note: `10 uH` is 10 µH
 ";
         assert_eq!(text.trim_end(), expected.trim_end(), "\n{text}");
     }

@@ -21,17 +21,15 @@ fn main() -> ExitCode {
         Command::Bias(args) => exit_code(commands::bias::run(args, &session)),
         Command::Sweep(args) => exit_code(commands::sweep::run(args, &session)),
         Command::Check(args) => exit_code(commands::check::run(args, &session)),
+        Command::Plot(args) => exit_code(commands::plot::run(args, &session)),
+        Command::Snapshot(args) => exit_code(commands::snapshot::run_snapshot(args, &session)),
+        Command::Compare(args) => exit_code(commands::snapshot::run_compare(args, &session)),
         Command::Report(args) => exit_code(commands::report::run(args, &session)),
         Command::Completions(args) => {
-            clap_complete::generate(
-                args.shell,
-                &mut Cli::command(),
-                "rolloff",
-                &mut std::io::stdout(),
-            );
+            let mut script = Vec::new();
+            clap_complete::generate(args.shell, &mut Cli::command(), "rolloff", &mut script);
+            rolloff_cli::input::print_stdout(&String::from_utf8_lossy(&script));
             ExitCode::SUCCESS
         }
-        // FIXME: wired once the library branches are merged.
-        _ => ExitCode::from(2),
     }
 }

@@ -64,44 +64,69 @@ const WIDTH: f64 = 960.0;
 const HEIGHT: f64 = 720.0;
 const LEFT: f64 = 78.0;
 const RIGHT: f64 = 780.0;
-const GAIN_TOP: f64 = 64.0;
-const GAIN_BOTTOM: f64 = 374.0;
-const PHASE_TOP: f64 = 404.0;
-const PHASE_BOTTOM: f64 = 660.0;
+const PLOT_TOP: f64 = 64.0;
+const PLOT_BOTTOM: f64 = 660.0;
+const PANEL_GAP: f64 = 30.0;
 /// How far below the highest gain the gain axis reaches at most; deeper points are clipped.
 const MAX_GAIN_SPAN_DB: f64 = 120.0;
 const FONT: &str = "DejaVu Sans, Helvetica, Arial, sans-serif";
 
 /// Renders the plot as a complete SVG document.
+///
+/// Traces share one gain panel per gain unit (a transfer in dB and an impedance in
+/// dBΩ do not share an axis), above one phase panel.
 pub fn render(plot: &Plot) -> String {
     let traces: Vec<Trace> = plot.traces.iter().map(cleaned).collect();
     let x_axis = LogAxis::fit(&traces, LEFT, RIGHT);
-    let gain_axis = gain_axis(&traces);
-    let phase_axis = phase_axis(&traces);
+    let units = gain_units(&traces);
+    let layout = layout(units.len());
     let mut out = String::new();
     header(&mut out, &plot.title);
-    let gain_panel = Panel {
-        id: "gain",
-        top: GAIN_TOP,
-        bottom: GAIN_BOTTOM,
-        y: gain_axis,
-        title: gain_title(&traces),
-        x_labels: false,
-    };
+    let gain_panels: Vec<Panel> = units
+        .iter()
+        .zip(&layout)
+        .enumerate()
+        .map(|(i, (unit, &(top, bottom)))| {
+            let members: Vec<Trace> = traces
+                .iter()
+                .filter(|t| unit_of(t) == unit)
+                .cloned()
+                .collect();
+            Panel {
+                id: if i == 0 {
+                    "gain".to_string()
+                } else {
+                    format!("gain{}", i + 1)
+                },
+                kind: "gain",
+                top,
+                bottom,
+                y: gain_axis(&members, max_ticks(top, bottom)),
+                title: gain_title(unit),
+                x_labels: false,
+            }
+        })
+        .collect();
+    let (phase_top, phase_bottom) = layout[layout.len() - 1];
     let phase_panel = Panel {
-        id: "phase",
-        top: PHASE_TOP,
-        bottom: PHASE_BOTTOM,
-        y: phase_axis,
+        id: "phase".to_string(),
+        kind: "phase",
+        top: phase_top,
+        bottom: phase_bottom,
+        y: phase_axis(&traces, max_ticks(phase_top, phase_bottom)),
         title: "phase [°]".to_string(),
         x_labels: true,
     };
-    for panel in [&gain_panel, &phase_panel] {
+    for panel in gain_panels.iter().chain([&phase_panel]) {
         panel.frame(&mut out, &x_axis);
     }
+    let panel_of = |trace: &Trace| {
+        let i = units.iter().position(|u| u == unit_of(trace)).unwrap_or(0);
+        &gain_panels[i]
+    };
     for (index, trace) in traces.iter().enumerate() {
         let colour = PALETTE[index % PALETTE.len()];
-        gain_panel.trace(&mut out, &x_axis, trace, colour, |p| p.gain_db);
+        panel_of(trace).trace(&mut out, &x_axis, trace, colour, |p| p.gain_db);
         phase_panel.trace(&mut out, &x_axis, trace, colour, |p| p.phase_deg);
     }
     for (index, trace) in traces.iter().enumerate() {
@@ -109,7 +134,7 @@ pub fn render(plot: &Plot) -> String {
         markers(
             &mut out,
             &x_axis,
-            &gain_panel,
+            panel_of(trace),
             &phase_panel,
             trace,
             colour,
@@ -121,10 +146,65 @@ pub fn render(plot: &Plot) -> String {
         out,
         "<text x=\"{:.1}\" y=\"{:.1}\" text-anchor=\"middle\" font-size=\"13\" fill=\"#333\">frequency</text>",
         f64::midpoint(LEFT, RIGHT),
-        PHASE_BOTTOM + 44.0
+        PLOT_BOTTOM + 44.0
     );
     out.push_str("</svg>\n");
     out
+}
+
+/// The vertical extent of each panel: the gain panels (one per unit) then the phase
+/// panel, which gets a little less height than a lone gain panel.
+fn layout(gain_panels: usize) -> Vec<(f64, f64)> {
+    let gain_panels = gain_panels.max(1);
+    let weights: Vec<f64> = std::iter::repeat_n(1.2, gain_panels).chain([1.0]).collect();
+    let total: f64 = weights.iter().sum();
+    let usable = PLOT_BOTTOM - PLOT_TOP - PANEL_GAP * (weights.len() - 1) as f64;
+    let mut top = PLOT_TOP;
+    weights
+        .iter()
+        .map(|w| {
+            let bottom = top + usable * w / total;
+            let panel = (top, bottom);
+            top = bottom + PANEL_GAP;
+            panel
+        })
+        .collect()
+}
+
+/// How many grid intervals fit a panel without crowding its labels.
+fn max_ticks(top: f64, bottom: f64) -> f64 {
+    ((bottom - top) / 30.0).floor().clamp(3.0, 10.0)
+}
+
+fn unit_of(trace: &Trace) -> &str {
+    if trace.gain_unit.is_empty() {
+        "dB"
+    } else {
+        trace.gain_unit.as_str()
+    }
+}
+
+/// The distinct gain units, in the order of the traces.
+fn gain_units(traces: &[Trace]) -> Vec<String> {
+    let mut units: Vec<String> = Vec::new();
+    for trace in traces {
+        let unit = unit_of(trace).to_string();
+        if !units.contains(&unit) {
+            units.push(unit);
+        }
+    }
+    if units.is_empty() {
+        units.push("dB".to_string());
+    }
+    units
+}
+
+fn gain_title(unit: &str) -> String {
+    if unit == "dBΩ" {
+        format!("impedance [{unit}]")
+    } else {
+        format!("gain [{unit}]")
+    }
 }
 
 /// Keeps only the points a log plot can show.
@@ -156,24 +236,6 @@ fn header(out: &mut String, title: &str) {
         "<text x=\"{LEFT}\" y=\"36\" font-size=\"17\" font-weight=\"bold\" fill=\"#222\">{}</text>",
         escape(title)
     );
-}
-
-fn gain_title(traces: &[Trace]) -> String {
-    let mut units: Vec<&str> = Vec::new();
-    for trace in traces {
-        let unit = if trace.gain_unit.is_empty() {
-            "dB"
-        } else {
-            trace.gain_unit.as_str()
-        };
-        if !units.contains(&unit) {
-            units.push(unit);
-        }
-    }
-    if units.is_empty() {
-        units.push("dB");
-    }
-    format!("gain [{}]", units.join(", "))
 }
 
 /// A logarithmic frequency axis mapped onto `px0..px1`.
@@ -297,7 +359,7 @@ impl LinAxis {
     }
 }
 
-fn gain_axis(traces: &[Trace]) -> LinAxis {
+fn gain_axis(traces: &[Trace], max_ticks: f64) -> LinAxis {
     let values = traces
         .iter()
         .flat_map(|t| t.points.iter().map(|p| p.gain_db).chain(t.level_db));
@@ -306,10 +368,10 @@ fn gain_axis(traces: &[Trace]) -> LinAxis {
     // A little headroom so a flat passband does not run along the frame.
     let pad = 0.04 * (hi - lo).max(1.0);
     let (lo, hi) = (lo - pad, hi + pad);
-    LinAxis::nice(lo, hi, &[1.0, 2.0, 5.0, 10.0, 20.0, 50.0, 100.0], 10.0)
+    LinAxis::nice(lo, hi, &[1.0, 2.0, 5.0, 10.0, 20.0, 50.0, 100.0], max_ticks)
 }
 
-fn phase_axis(traces: &[Trace]) -> LinAxis {
+fn phase_axis(traces: &[Trace], max_ticks: f64) -> LinAxis {
     let values = traces
         .iter()
         .flat_map(|t| t.points.iter().map(|p| p.phase_deg));
@@ -318,13 +380,15 @@ fn phase_axis(traces: &[Trace]) -> LinAxis {
         lo,
         hi,
         &[5.0, 10.0, 15.0, 30.0, 45.0, 90.0, 180.0, 360.0],
-        8.0,
+        max_ticks.min(8.0),
     )
 }
 
 /// One of the two stacked panels.
 struct Panel {
-    id: &'static str,
+    id: String,
+    /// `gain` or `phase`, written on each trace as `data-panel`.
+    kind: &'static str,
     top: f64,
     bottom: f64,
     y: LinAxis,
@@ -446,7 +510,7 @@ impl Panel {
             out,
             "<polyline class=\"trace\" data-probe=\"{}\" data-panel=\"{}\" clip-path=\"url(#clip-{})\" fill=\"none\" stroke=\"{colour}\" stroke-width=\"2\" stroke-linejoin=\"round\" stroke-linecap=\"round\" points=\"{points}\"/>",
             escape(&trace.name),
-            self.id,
+            self.kind,
             self.id
         );
     }
@@ -537,7 +601,7 @@ fn legend(out: &mut String, traces: &[Trace]) {
     let _ = writeln!(out, "<g class=\"legend\">");
     for (index, trace) in traces.iter().enumerate() {
         let colour = PALETTE[index % PALETTE.len()];
-        let y = GAIN_TOP + 10.0 + 22.0 * index as f64;
+        let y = PLOT_TOP + 10.0 + 22.0 * index as f64;
         let unit = if trace.gain_unit.is_empty() || trace.gain_unit == "dB" {
             String::new()
         } else {

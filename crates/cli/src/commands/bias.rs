@@ -28,7 +28,7 @@ pub fn run(args: &BiasArgs, session: &Session) -> Result<Outcome, Reported> {
         Format::Csv => view.csv(),
         Format::Json => to_json(&view),
     };
-    print!("{text}");
+    crate::input::print_stdout(&text);
     for warning in &report.warnings {
         session.warning(&format!("{}: {warning}", loaded.source.name));
     }

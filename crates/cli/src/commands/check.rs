@@ -33,7 +33,7 @@ pub fn run(args: &CheckArgs, session: &Session) -> Result<Outcome, Reported> {
         Format::Csv => csv(&results),
         Format::Json => to_json(&CheckView::new(&results)),
     };
-    print!("{text}");
+    crate::input::print_stdout(&text);
     if let Some(path) = &args.junit {
         let suites: Vec<junit::Suite> = results.iter().map(FileResult::suite).collect();
         input::write_output(path, &junit::render(&suites)).map_err(|m| session.error(&m))?;

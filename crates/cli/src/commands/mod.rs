@@ -3,7 +3,9 @@
 
 pub mod bias;
 pub mod check;
+pub mod plot;
 pub mod report;
+pub mod snapshot;
 pub mod sweep;
 
 use std::path::Path;
@@ -64,8 +66,9 @@ impl Session {
 
     /// Prints a message against its source.
     pub fn message(&self, message: &Message, source: &Source) {
+        // A blank line after each source diagnostic keeps several of them apart.
         anstream::eprintln!(
-            "{}",
+            "{}\n",
             diagnostics::render(message, &source.name, &source.text, true)
         );
     }
@@ -133,6 +136,7 @@ fn message_of(diagnostic: &rolloff_netlist::Diagnostic) -> Message {
         span: Some(diagnostic.span.start..diagnostic.span.end),
         label: diagnostic.expected.clone(),
         help: diagnostic.help.clone(),
+        notes: diagnostic.notes.clone(),
     }
 }
 

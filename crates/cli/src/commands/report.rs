@@ -36,7 +36,7 @@ pub fn run(args: &ReportArgs, session: &Session) -> Result<Outcome, Reported> {
         Format::Csv => ReportView::csv(&summaries),
         Format::Json => to_json(&view),
     };
-    print!("{text}");
+    crate::input::print_stdout(&text);
     let mut failed = false;
     for (name, summary) in &summaries {
         if let Err(e) = summary {

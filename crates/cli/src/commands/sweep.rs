@@ -30,7 +30,7 @@ pub fn run(args: &SweepArgs, session: &Session) -> Result<Outcome, Reported> {
         Format::Csv => view.csv(),
         Format::Json => to_json(&view),
     };
-    print!("{text}");
+    crate::input::print_stdout(&text);
     Ok(Outcome::Pass)
 }
 
