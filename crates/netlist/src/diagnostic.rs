@@ -51,6 +51,8 @@ pub enum DiagnosticKind {
     Repeated,
     /// A command-line override (`--set name=value`) that cannot be applied.
     Override,
+    /// A file with no parts at all.
+    Empty,
     /// Warning: a node with only one connection.
     SingleConnection,
     /// Warning: a `let` that nothing uses.
@@ -172,7 +174,8 @@ const WINDOW: usize = 60;
 /// let source = "resistor R1 (a, gnd) 10K\n";
 /// let compiled = compile(source, &CompileOptions::default());
 /// let text = render_diagnostic(&compiled.diagnostics[0], "f.rol", source);
-/// assert!(text.contains("f.rol:1:22"));
+/// assert!(text.contains("f.rol:1:24"));
+/// assert!(text.contains("write `10k`"));
 /// ```
 pub fn render_diagnostic(d: &Diagnostic, file_name: &str, source: &str) -> String {
     let mut out = String::new();

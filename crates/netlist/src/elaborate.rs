@@ -98,6 +98,7 @@ pub(crate) fn elaborate(
         part_index: HashMap::new(),
         part_name_span: Vec::new(),
         bad_blocks: HashSet::new(),
+        failed_parts: HashSet::new(),
         has_fit: false,
     };
     e.names
@@ -120,6 +121,7 @@ struct Elaborator<'a> {
     part_index: HashMap<String, PartId>,
     part_name_span: Vec<Span>,
     bad_blocks: HashSet<String>,
+    failed_parts: HashSet<String>,
     has_fit: bool,
 }
 
@@ -165,6 +167,7 @@ impl<'a> Elaborator<'a> {
                 _ => {}
             }
         }
+        self.renumber_nodes();
         let mut circuit = Circuit {
             title,
             nodes: std::mem::take(&mut self.nodes),
@@ -172,10 +175,62 @@ impl<'a> Elaborator<'a> {
             ..Circuit::default()
         };
         self.nodes.clone_from(&circuit.nodes);
+        if circuit.parts.is_empty() && !self.diags.iter().any(Diagnostic::is_error) {
+            let end = self.source.len();
+            self.error(
+                DiagnosticKind::Empty,
+                Span::new(end, end),
+                "the circuit has no parts",
+            )
+            .expected = Some("expected at least one part (`resistor`, `vsrc`, …)".into());
+        }
         self.analyses(statements, &mut circuit);
         self.graph_checks(&circuit);
         self.unused_lets();
         circuit
+    }
+
+    /// Numbers the nodes in order of first mention by the parts (as the flat, printed
+    /// form would), so a circuit and its printed text agree on every `NodeId`. Nodes no
+    /// part mentions keep their relative order at the end.
+    fn renumber_nodes(&mut self) {
+        let n = self.nodes.len();
+        let mut new_id = vec![u32::MAX; n];
+        new_id[0] = 0;
+        let mut next = 1u32;
+        for part in &self.parts {
+            for node in part.kind.nodes() {
+                if new_id[node.index()] == u32::MAX {
+                    new_id[node.index()] = next;
+                    next += 1;
+                }
+            }
+        }
+        for id in &mut new_id {
+            if *id == u32::MAX {
+                *id = next;
+                next += 1;
+            }
+        }
+        let map = |id: &mut NodeId| *id = NodeId(new_id[id.index()]);
+        for part in &mut self.parts {
+            for_each_node(&mut part.kind, map);
+        }
+        let mut nodes = vec![String::new(); n];
+        let mut spans = vec![Span::default(); n];
+        let mut connections = vec![0; n];
+        for (old, &new) in new_id.iter().enumerate() {
+            let new = new as usize;
+            nodes[new] = std::mem::take(&mut self.nodes[old]);
+            spans[new] = self.node_span[old];
+            connections[new] = self.node_connections[old];
+        }
+        for id in self.node_index.values_mut() {
+            map(id);
+        }
+        self.nodes = nodes;
+        self.node_span = spans;
+        self.node_connections = connections;
     }
 
     // ------------------------------------------------------------ names
@@ -595,21 +650,33 @@ impl<'a> Elaborator<'a> {
             self.error(
                 DiagnosticKind::PinCount,
                 at,
-                format!(
-                    "a `{}` connects {want}; this one has {}",
-                    p.keyword.word(),
-                    nodes.len() + from.len()
-                ),
+                if p.keyword.has_from() {
+                    format!(
+                        "{} `{}` connects {want}; this one has {} and {}",
+                        article(p.keyword.word()),
+                        p.keyword.word(),
+                        nodes.len(),
+                        from.len()
+                    )
+                } else {
+                    format!(
+                        "a `{}` connects {want}; this one has {}",
+                        p.keyword.word(),
+                        nodes.len()
+                    )
+                },
             )
             .expected = Some(format!("expected {want}"));
             return;
         }
-        let Some(kind) = self.part_kind(p, &nodes, &from, scope) else {
-            return;
-        };
         if !self.declare_name(&name, p.name.span, NameKind::Part) {
             return;
         }
+        let Some(kind) = self.part_kind(p, &nodes, &from, scope) else {
+            // Keep the name reserved, so later mentions do not add "unknown" errors.
+            self.failed_parts.insert(name);
+            return;
+        };
         let id = PartId(self.parts.len() as u32);
         self.part_index.insert(name.clone(), id);
         self.part_name_span.push(p.name.span);
@@ -1400,6 +1467,9 @@ impl<'a> Elaborator<'a> {
         if let Some(&id) = self.part_index.get(&n.name) {
             return Some(id);
         }
+        if self.failed_parts.contains(&n.name) {
+            return None;
+        }
         let names: Vec<String> = self.part_index.keys().cloned().collect();
         self.unknown(
             n,
@@ -1680,7 +1750,14 @@ impl<'a> Elaborator<'a> {
             CmpSyntax::Equal(e, tol) => {
                 let value = self.bound(e, scope, unit, "the value");
                 let deviation = match tol {
-                    Some(t) => self.deviation(t, scope, unit),
+                    Some(t) => self.deviation(t, scope, unit).map(|d| match d {
+                        // A bare tolerance is in the value's unit as written: dB/oct
+                        // converts like the value did.
+                        Deviation::Absolute(v) if written_per_octave(e) && bare(t) => {
+                            Deviation::Absolute(v * std::f64::consts::LOG2_10)
+                        }
+                        other => other,
+                    }),
                     None if self.has_fit => Some(Deviation::Relative(0.0)),
                     None => {
                         self.error(DiagnosticKind::Syntax, e.span, "`=` needs a tolerance")
@@ -1839,6 +1916,55 @@ impl WithNote for Diagnostic {
     }
 }
 
+/// Applies `f` to every node of a part.
+fn for_each_node(kind: &mut PartKind, f: impl Fn(&mut NodeId)) {
+    match kind {
+        PartKind::Resistor { a, b, .. }
+        | PartKind::Capacitor { a, b, .. }
+        | PartKind::Inductor { a, b, .. } => {
+            f(a);
+            f(b);
+        }
+        PartKind::VoltageSource { pos, neg, .. } => {
+            f(pos);
+            f(neg);
+        }
+        PartKind::CurrentSource { from, to, .. } => {
+            f(from);
+            f(to);
+        }
+        PartKind::Vcvs {
+            out_pos,
+            out_neg,
+            in_pos,
+            in_neg,
+            ..
+        }
+        | PartKind::Vccs {
+            out_pos,
+            out_neg,
+            in_pos,
+            in_neg,
+            ..
+        } => {
+            f(out_pos);
+            f(out_neg);
+            f(in_pos);
+            f(in_neg);
+        }
+        PartKind::OpAmp {
+            out,
+            in_pos,
+            in_neg,
+            ..
+        } => {
+            f(out);
+            f(in_pos);
+            f(in_neg);
+        }
+    }
+}
+
 /// The node pairs a part connects for the "path to gnd" check (capacitors count).
 fn conductive_pairs(kind: &PartKind) -> Vec<(NodeId, NodeId)> {
     match *kind {
@@ -1950,6 +2076,22 @@ pub(crate) fn unit_dim(unit: Unit) -> Dim {
     }
 }
 
+fn article(word: &str) -> &'static str {
+    if word.starts_with(['a', 'e', 'i', 'o', 'u']) {
+        "an"
+    } else {
+        "a"
+    }
+}
+
+fn written_per_octave(e: &Expr) -> bool {
+    matches!(&e.kind, ExprKind::Number(l) if l.unit == Some(crate::units::UnitSym::DbPerOctave))
+}
+
+fn bare(e: &Expr) -> bool {
+    matches!(&e.kind, ExprKind::Number(l) if l.unit.is_none())
+}
+
 fn describe_quantity(q: Quantity) -> String {
     match q.dim {
         Dim::Unknown | Dim::Si(DIMENSIONLESS) => format_number(q.value),
@@ -2012,26 +2154,34 @@ pub(crate) fn similar<'c>(name: &str, candidates: impl Iterator<Item = &'c str>)
     best.map(|(_, c)| c.to_string())
 }
 
-/// Levenshtein distance, giving up (returning `limit + 1`) once it exceeds `limit`.
+/// Edit distance with adjacent transpositions (optimal string alignment), giving up
+/// (returning `limit + 1`) once every path exceeds `limit`.
 fn edit_distance(a: &str, b: &str, limit: usize) -> usize {
     let a: Vec<char> = a.chars().collect();
     let b: Vec<char> = b.chars().collect();
     if a.len().abs_diff(b.len()) > limit {
         return limit + 1;
     }
-    let mut previous: Vec<usize> = (0..=b.len()).collect();
-    for (i, ca) in a.iter().enumerate() {
-        let mut current = vec![i + 1; b.len() + 1];
-        for (j, cb) in b.iter().enumerate() {
-            let cost = usize::from(ca != cb);
-            current[j + 1] = (previous[j] + cost)
-                .min(previous[j + 1] + 1)
-                .min(current[j] + 1);
+    let width = b.len() + 1;
+    let mut rows = vec![vec![0usize; width]; a.len() + 1];
+    for (j, cell) in rows[0].iter_mut().enumerate() {
+        *cell = j;
+    }
+    for i in 1..=a.len() {
+        rows[i][0] = i;
+        for j in 1..=b.len() {
+            let cost = usize::from(a[i - 1] != b[j - 1]);
+            let mut d = (rows[i - 1][j - 1] + cost)
+                .min(rows[i - 1][j] + 1)
+                .min(rows[i][j - 1] + 1);
+            if i > 1 && j > 1 && a[i - 1] == b[j - 2] && a[i - 2] == b[j - 1] {
+                d = d.min(rows[i - 2][j - 2] + 1);
+            }
+            rows[i][j] = d;
         }
-        if current.iter().min().copied().unwrap_or(0) > limit {
+        if rows[i].iter().min().copied().unwrap_or(0) > limit {
             return limit + 1;
         }
-        previous = current;
     }
-    previous[b.len()]
+    rows[a.len()][b.len()]
 }

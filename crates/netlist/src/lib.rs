@@ -141,3 +141,6 @@ pub fn valid_prefix(source: &[u8]) -> &str {
         Err(e) => std::str::from_utf8(&source[..e.valid_up_to()]).unwrap_or_default(),
     }
 }
+
+#[cfg(test)]
+mod tests;

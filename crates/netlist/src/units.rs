@@ -352,33 +352,42 @@ pub(crate) fn format_number(value: f64) -> String {
     }
 }
 
-/// Formats `value` with an SI prefix where it reads back exactly (`4.7k`, `100n`),
-/// else as [`format_number`]. Returns the number and the prefix text.
+/// Formats `value` with an SI prefix (`4.7k`, `100n`), moving the decimal point of its
+/// shortest exact text, so it reads back to exactly the same float. Returns the
+/// number and the prefix text.
 pub(crate) fn format_prefixed(value: f64) -> (String, &'static str) {
-    const PREFIXES: [(i32, &str); 9] = [
-        (-15, "f"),
-        (-12, "p"),
-        (-9, "n"),
-        (-6, "u"),
-        (-3, "m"),
-        (0, ""),
-        (3, "k"),
-        (6, "M"),
-        (9, "G"),
-    ];
     if value == 0.0 || !value.is_finite() {
         return (format_number(value), "");
     }
-    let exp3 = ((value.abs().log10() / 3.0).floor() as i32 * 3).clamp(-15, 9);
-    for &(e, p) in &PREFIXES {
-        if e != exp3 {
-            continue;
-        }
-        let mantissa = value / 10f64.powi(e);
-        let text = format!("{mantissa}");
-        if !text.contains('e') && format!("{text}e{e}").parse::<f64>().ok() == Some(value) {
-            return (text, p);
-        }
+    let sci = format!("{:e}", value.abs());
+    let Some((mantissa, exp)) = sci.split_once('e') else {
+        return (format_number(value), "");
+    };
+    let Ok(exp) = exp.parse::<i32>() else {
+        return (format_number(value), "");
+    };
+    let exp3 = exp.div_euclid(3) * 3;
+    let prefix = match exp3 {
+        -15 => "f",
+        -12 => "p",
+        -9 => "n",
+        -6 => "u",
+        -3 => "m",
+        0 => "",
+        3 => "k",
+        6 => "M",
+        9 => "G",
+        _ => return (format_number(value), ""),
+    };
+    let digits: String = mantissa.chars().filter(char::is_ascii_digit).collect();
+    let point = 1 + (exp - exp3) as usize;
+    let mut text = if digits.len() > point {
+        format!("{}.{}", &digits[..point], &digits[point..])
+    } else {
+        format!("{digits}{}", "0".repeat(point - digits.len()))
+    };
+    if value < 0.0 {
+        text.insert(0, '-');
     }
-    (format_number(value), "")
+    (text, prefix)
 }

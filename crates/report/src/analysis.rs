@@ -732,6 +732,23 @@ impl<'a> Analysis<'a> {
         }
     }
 
+    /// As [`Analysis::metric`], with the passband's warnings for the cutoff family (the
+    /// gain still changing at a sweep end, the reference taken beyond the sweep, peaking
+    /// above the flat region, a skipped 0 Hz point); other metrics carry none.
+    pub fn metric_with_warnings(
+        &mut self,
+        kind: MetricKind,
+        options: &MetricOptions,
+    ) -> (Result<f64, MetricError>, Vec<ReportWarning>) {
+        if !uses_passband(kind) {
+            return (self.metric(kind, options), Vec::new());
+        }
+        match self.passband(options) {
+            Ok(passband) => (self.band_metric(kind, &passband), passband.warnings),
+            Err(e) => (Err(e), Vec::new()),
+        }
+    }
+
     fn no_peak(&self, peak: Extremum) -> MetricError {
         MetricError::NoPeak {
             low_hz: self.low(),
@@ -1080,6 +1097,23 @@ fn outer((a, b): (f64, f64), side: Side) -> f64 {
         Side::High => b,
         Side::Low => a,
     }
+}
+
+/// Whether a metric is measured against the passband reference (the cutoff family).
+pub fn uses_passband(kind: MetricKind) -> bool {
+    matches!(
+        kind,
+        MetricKind::Cutoff
+            | MetricKind::CutoffLow
+            | MetricKind::CutoffHigh
+            | MetricKind::Bandwidth
+            | MetricKind::PassbandGain
+            | MetricKind::Resonance
+            | MetricKind::Q
+            | MetricKind::Peaking
+            | MetricKind::NotchFreq
+            | MetricKind::NotchDepth
+    )
 }
 
 /// `n` when `|slope|` is within 1 dB/decade of `n × 20` for some `n ≥ 1`.

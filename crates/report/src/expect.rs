@@ -1,9 +1,9 @@
 //! Expectation verdicts: a measured value (or the reason there is none) judged against
 //! the comparison an `expect` line writes.
 
-use crate::MetricError;
 use crate::format::fmt_value;
 use crate::numeric::circular_difference;
+use crate::{MetricError, ReportWarning};
 use rolloff_netlist::{Comparison, Deviation, Expectation, MetricKind, Span, Unit};
 
 /// The outcome of one `expect` line.
@@ -24,6 +24,10 @@ pub struct Verdict {
     /// Distance from the measured value to the nearest bound, in `unit`: positive
     /// inside, negative outside; `None` when nothing was measured.
     pub margin: Option<f64>,
+    /// What the reader should know about the measurement (filled by [`crate::check`]
+    /// for the cutoff family: the gain still changing at a sweep end, the reference
+    /// taken beyond the sweep, peaking above the flat region).
+    pub warnings: Vec<ReportWarning>,
 }
 
 impl std::fmt::Display for Verdict {
@@ -146,6 +150,7 @@ pub fn judge(
         pass,
         bound: bound_text(expectation.comparison, unit),
         margin,
+        warnings: Vec::new(),
     }
 }
 

@@ -39,6 +39,7 @@ pub use analysis::{
     Analysis, Crossing, Extremum, FLAT_END_DB_PER_DECADE, LOOK_BEYOND_DECADES,
     ORDER_TOLERANCE_DB_PER_DECADE, PEAKING_WARN_DB, Passband, Reference, ReferenceOrigin,
     ReportWarning, SETTLED_DB_PER_DECADE, Shape, Side, Slope, StopbandSlope, SweepEnd, order_of,
+    uses_passband,
 };
 pub use error::{MetricError, ReportError};
 pub use expect::{Verdict, judge, metric_name, metric_unit};
@@ -48,8 +49,8 @@ pub use snapshot::{
     Thresholds, compare_snapshots, compare_sources, snapshot_probe, snapshot_sources,
 };
 pub use solver::{
-    ProbeSource, analyze_circuit, analyze_probe, bias, check, compare, measure, measured_unit,
-    sweep_frequencies, take_snapshot,
+    ProbeSource, analyze_circuit, analyze_probe, bias, check, compare, measure,
+    measure_with_warnings, measured_unit, sweep_frequencies, take_snapshot,
 };
 pub use source::{ClosedForm, ResponseSource, SampledResponse};
 pub use summary::{ProbeSummary, analyze, measure_response};

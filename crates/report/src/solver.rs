@@ -2,6 +2,7 @@
 //! expectation of the circuit), bias metrics, per-probe summaries and snapshots of real
 //! circuits.
 
+use crate::analysis::{Analysis, ReportWarning, uses_passband};
 use crate::expect::{judge, metric_unit};
 use crate::{
     CompareReport, MetricError, ProbeSummary, ReportError, ResponseSource, Snapshot, Thresholds,
@@ -146,6 +147,35 @@ pub fn measure<S: LinearSolver>(
     if metric.kind == MetricKind::Bias {
         return bias(analyzer, metric.target);
     }
+    let (mut source, options) = ac_source(analyzer, metric)?;
+    measure_response(&mut source, freqs, metric.kind, &options)
+}
+
+/// As [`measure`], with the warnings of the passband reference for the cutoff family
+/// (see [`crate::Analysis::metric_with_warnings`]).
+pub fn measure_with_warnings<S: LinearSolver>(
+    analyzer: &mut Analyzer<S>,
+    metric: &Metric,
+    freqs: &[f64],
+) -> (Result<f64, MetricError>, Vec<ReportWarning>) {
+    if metric.kind == MetricKind::Bias || !uses_passband(metric.kind) {
+        return (measure(analyzer, metric, freqs), Vec::new());
+    }
+    let (mut source, options) = match ac_source(analyzer, metric) {
+        Ok(found) => found,
+        Err(e) => return (Err(e), Vec::new()),
+    };
+    match Analysis::new(&mut source, freqs) {
+        Ok(mut analysis) => analysis.metric_with_warnings(metric.kind, &options),
+        Err(e) => (Err(e.into()), Vec::new()),
+    }
+}
+
+/// The solver source and effective options of an AC metric.
+fn ac_source<'a, S: LinearSolver>(
+    analyzer: &'a mut Analyzer<S>,
+    metric: &Metric,
+) -> Result<(ProbeSource<'a, S>, MetricOptions), MetricError> {
     let (probe, probe_ref, name) = resolve(analyzer.circuit(), metric.target)?;
     if matches!(metric.kind, MetricKind::Impedance { .. })
         && !matches!(
@@ -159,8 +189,7 @@ pub fn measure<S: LinearSolver>(
         reference: metric.options.reference.or(probe_ref),
         level_db: metric.options.level_db,
     };
-    let mut source = ProbeSource::new(analyzer, probe);
-    measure_response(&mut source, freqs, metric.kind, &options)
+    Ok((ProbeSource::new(analyzer, probe), options))
 }
 
 /// A bias metric from the DC solve.
@@ -218,8 +247,11 @@ pub fn check<S: LinearSolver>(analyzer: &mut Analyzer<S>, freqs: &[f64]) -> Vec<
         .iter()
         .map(|e| {
             let unit = measured_unit(analyzer.circuit(), &e.metric);
-            let measured = measure(analyzer, &e.metric, freqs);
-            judge(e, measured, unit)
+            let (measured, warnings) = measure_with_warnings(analyzer, &e.metric, freqs);
+            Verdict {
+                warnings,
+                ..judge(e, measured, unit)
+            }
         })
         .collect()
 }

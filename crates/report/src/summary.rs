@@ -168,14 +168,17 @@ fn summarise(
     let stopband = analysis.stopband_slopes(passband)?;
     let group_delay_s = optional(analysis.group_delay(passband.reference.freq_hz))?;
     let mut warnings = passband.warnings.clone();
+    // The far decade lies beyond most sweeps by design (the asymptote is read far into
+    // the stopband) and says so in its `Slope`; only a stopband slope proper that leaves
+    // the sweep is worth a warning.
     for s in &stopband {
-        for slope in [s.near, s.far].into_iter().flatten() {
-            if slope.beyond_sweep {
-                warnings.push(ReportWarning::SlopeBeyondSweep {
-                    from_hz: slope.from_hz,
-                    to_hz: slope.to_hz,
-                });
-            }
+        if let Some(slope) = s.near
+            && slope.beyond_sweep
+        {
+            warnings.push(ReportWarning::SlopeBeyondSweep {
+                from_hz: slope.from_hz,
+                to_hz: slope.to_hz,
+            });
         }
     }
     Ok(ProbeSummary {
@@ -210,6 +213,19 @@ pub fn measure_response(
     kind: MetricKind,
     options: &MetricOptions,
 ) -> Result<f64, MetricError> {
-    let mut analysis = Analysis::new(source, freqs)?;
+    // Spot metrics that need no sweep are evaluated at their own frequencies only (the
+    // phase needs the sweep to be unwrapped along).
+    let spot = match kind {
+        MetricKind::Gain { freq }
+        | MetricKind::GroupDelay { freq }
+        | MetricKind::Impedance { freq } => Some(vec![freq]),
+        MetricKind::Slope { f1, f2 } => Some(vec![f1, f2]),
+        _ => None,
+    };
+    let points = match spot {
+        Some(points) if points.iter().all(|f| f.is_finite() && *f > 0.0) => points,
+        _ => freqs.to_vec(),
+    };
+    let mut analysis = Analysis::new(source, &points)?;
     analysis.metric(kind, options)
 }

@@ -642,3 +642,100 @@ fn series_rlc_at_extreme_values() {
         }
     }
 }
+
+#[test]
+fn sallen_key_low_pass_has_no_false_feedback_warning() {
+    // Unity-gain Sallen–Key low-pass: H = 1 / (1 + s·C2·(R1 + R2) + s²·R1·R2·C1·C2),
+    // C1 from the middle node to the output, C2 from the op-amp input to gnd (standard
+    // active-filter result). Its positive feedback through C1 is weaker than the
+    // follower's negative feedback, so no positive-feedback warning is due.
+    let (r1, r2, c1, c2) = (10e3, 22e3, 10e-9, 4.7e-9);
+    let mut b = Circuit::builder();
+    let (out, p) = (b.node("out"), b.node("p"));
+    let circuit = b
+        .vsrc("V1", "in", "gnd", 1.0)
+        .resistor("R1", "in", "m", r1)
+        .resistor("R2", "m", "p", r2)
+        .capacitor("C1", "m", "out", c1)
+        .capacitor("C2", "p", "gnd", c2)
+        .part("U1", opamp(out, p, out, None, None))
+        .build()
+        .unwrap();
+    let mut a = Analyzer::new(&circuit).unwrap();
+    assert!(a.warnings().is_empty(), "{:?}", a.warnings());
+    for f in [10.0, 500.0, 1e3, 2e3, 1e5] {
+        let s = jw(f);
+        let want = 1.0 / (1.0 + s * c2 * (r1 + r2) + s * s * r1 * r2 * c1 * c2);
+        check(a.transfer(&ProbeKind::Node(out), f).unwrap(), want, 1e-12);
+    }
+}
+
+#[test]
+fn gbw_alone_is_an_integrator_model() {
+    // A follower around A(s) = 2π·gbw/s: H = ωt/(s + ωt), −3 dB at gbw (single-pole
+    // op-amp in the limit of infinite DC gain).
+    let gbw = 1e6;
+    let mut b = Circuit::builder();
+    let (out, inp) = (b.node("out"), b.node("in"));
+    let circuit = b
+        .vsrc("V1", "in", "gnd", 1.0)
+        .part("U1", opamp(out, inp, out, None, Some(gbw)))
+        .resistor("RL", "out", "gnd", 1e3)
+        .build()
+        .unwrap();
+    let mut a = Analyzer::new(&circuit).unwrap();
+    let wt = 2.0 * PI * gbw;
+    for f in [0.0, 1e3, 1e6, 1e8] {
+        check(
+            a.transfer(&ProbeKind::Node(out), f).unwrap(),
+            wt / (jw(f) + wt),
+            1e-12,
+        );
+    }
+    assert_eq!(a.part_value(circuit.part("U1").unwrap()), Some(gbw));
+}
+
+#[test]
+fn isrc_with_parallel_resistance_and_its_current() {
+    // A Norton source (1 A, rp = 1 kΩ) into 1 kΩ: v = 500 Ω per ampere (current
+    // divider); the drive sees only the load (rp excluded), and the source's own part
+    // current from→to is I + (v_from − v_to)/rp = 1 − 0.5.
+    let mut b = Circuit::builder();
+    let (gnd, t) = (b.node("gnd"), b.node("t"));
+    let circuit = b
+        .part(
+            "I1",
+            PartKind::CurrentSource {
+                from: gnd,
+                to: t,
+                amplitude: Some(1.0),
+                phase_deg: 0.0,
+                bias: Some(2e-3),
+                rp: Some(1e3),
+            },
+        )
+        .resistor("RL", "t", "gnd", 1e3)
+        .build()
+        .unwrap();
+    let mut a = Analyzer::new(&circuit).unwrap();
+    check(
+        a.transfer(&ProbeKind::Node(t), 1.0).unwrap(),
+        Complex64::new(500.0, 0.0),
+        1e-12,
+    );
+    check(
+        a.transfer(&ProbeKind::InputImpedance, 1.0).unwrap(),
+        Complex64::new(1e3, 0.0),
+        1e-12,
+    );
+    let i1 = circuit.part("I1").unwrap();
+    check(
+        a.transfer(&ProbeKind::Current(i1), 1.0).unwrap(),
+        Complex64::new(0.5, 0.0),
+        1e-12,
+    );
+    let bias = a.bias().unwrap();
+    assert!((bias.node_voltage(t) - 1.0).abs() < 1e-12);
+    assert!((bias.part_current(i1).unwrap() - 1e-3).abs() < 1e-15);
+    assert_eq!(a.part_value(i1), Some(1e3));
+}

@@ -381,3 +381,109 @@ fn snapshot_rejects_bad_json() {
         "bad snapshot: snapshot format 9 is not the supported format 1"
     );
 }
+
+#[test]
+fn target_unit_and_solver_failures_are_reasons() {
+    // No AC source: every AC metric fails with the solver's reason.
+    let circuit = Circuit::builder()
+        .resistor("R1", "a", "gnd", 1e3)
+        .isrc("I1", "gnd", "a", 1.0)
+        .build()
+        .unwrap();
+    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let cutoff = metric(&circuit, MetricKind::Cutoff, "a", None);
+    let mut dc = circuit.clone();
+    dc.parts[1].kind = rolloff_netlist::PartKind::CurrentSource {
+        from: rolloff_netlist::NodeId::GND,
+        to: circuit.node("a").unwrap(),
+        amplitude: None,
+        phase_deg: 0.0,
+        bias: Some(1e-3),
+        rp: None,
+    };
+    let mut dc_analyzer = Analyzer::new(&dc).unwrap();
+    let e = measure(&mut dc_analyzer, &cutoff, &[1.0, 10.0]).unwrap_err();
+    assert_eq!(
+        e.to_string(),
+        "the circuit has no AC source (a vsrc or isrc with an amplitude) to drive it"
+    );
+    // 1 mA into 1 kΩ: 1 V of bias.
+    let v = bias(&mut dc_analyzer, Target::Node(dc.node("a").unwrap())).unwrap();
+    assert!((v - 1.0).abs() < 1e-12);
+    // An AC metric on a part target.
+    let on_part = Metric {
+        target: Target::Part(circuit.part("R1").unwrap()),
+        ..cutoff
+    };
+    assert_eq!(
+        measure(&mut analyzer, &on_part, &[1.0, 10.0])
+            .unwrap_err()
+            .to_string(),
+        "`R1` is a part; AC metrics are measured on a node, a probe or `current R1`"
+    );
+    // A unit that does not fit the metric fails the verdict.
+    let expectation = rolloff_netlist::Expectation {
+        metric: cutoff,
+        comparison: rolloff_netlist::Comparison::Less(3.0),
+        unit: rolloff_netlist::Unit::Decibel,
+        text: "cutoff(a) < 3 dB".into(),
+        span: rolloff_netlist::Span::default(),
+    };
+    let v = judge(&expectation, Ok(100.0), rolloff_netlist::Unit::Hertz);
+    assert!(!v.pass);
+    assert_eq!(
+        v.to_string(),
+        "FAIL: cutoff(a) < 3 dB (cutoff is measured in Hz, but the expectation is written in dB)"
+    );
+}
+
+#[test]
+fn verdicts_carry_the_reference_warnings() {
+    // The sweep ends at 6.3·fc, where the high-pass still rises by 0.49 dB/decade.
+    let text = "vsrc V1 (in, gnd) 1 V\ncapacitor C1 (in, out) 100 nF\nresistor R1 (out, gnd) 10k\n\
+                sweep 1 Hz to 1 kHz per_decade 40\nprobe out\n\
+                expect cutoff(out) within 150 .. 170 Hz\nexpect gain(out, 1 kHz) > -1 dB\n";
+    let circuit = circuit_from(text);
+    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let verdicts = check(&mut analyzer, &sweep_frequencies(&circuit));
+    assert!(verdicts[0].pass, "{}", verdicts[0]);
+    assert!(matches!(
+        verdicts[0].warnings[0],
+        ReportWarning::StillChanging {
+            end: SweepEnd::End,
+            ..
+        }
+    ));
+    assert!(matches!(
+        verdicts[0].warnings[1],
+        ReportWarning::ReferenceBeyondSweep { .. }
+    ));
+    assert!(verdicts[1].warnings.is_empty());
+}
+
+proptest::proptest! {
+    #![proptest_config(proptest::prelude::ProptestConfig::with_cases(64))]
+    /// First-order RC low-pass across the decades of R and C: fc = 1/(2πRC), the phase
+    /// there −45° and the group delay τ/2 (textbook first-order section).
+    #[test]
+    fn solver_cutoff_phase_and_delay_across_decades(r_exp in 1.0f64..6.0, c_exp in -12.0f64..-6.0) {
+        let (r, c) = (10f64.powf(r_exp), 10f64.powf(c_exp));
+        let tau = r * c;
+        let fc = 1.0 / (2.0 * PI * tau);
+        let circuit = Circuit::builder()
+            .vsrc("V1", "in", "gnd", 1.0)
+            .resistor("R1", "in", "out", r)
+            .capacitor("C1", "out", "gnd", c)
+            .build()
+            .unwrap();
+        let mut analyzer = Analyzer::new(&circuit).unwrap();
+        let freqs = Sweep::Log { start: fc / 100.0, stop: fc * 100.0, per_decade: 20 }.frequencies();
+        let m = |kind, reference| metric(&circuit, kind, "out", reference);
+        let f = measure(&mut analyzer, &m(MetricKind::Cutoff, Some(fc * 1e-6)), &freqs).unwrap();
+        proptest::prop_assert!(rel(f, fc) < 1e-9);
+        let p = measure(&mut analyzer, &m(MetricKind::Phase { freq: fc }, None), &freqs).unwrap();
+        proptest::prop_assert!((p + 45.0).abs() < 1e-9);
+        let g = measure(&mut analyzer, &m(MetricKind::GroupDelay { freq: fc }, None), &freqs).unwrap();
+        proptest::prop_assert!(rel(g, tau / 2.0) < 1e-9);
+    }
+}
