@@ -155,29 +155,64 @@ impl Session {
     /// [`Reported`] when an option does not compile into a sweep.
     pub fn frequencies(
         &self,
-        circuit: &Circuit,
+        loaded: &Loaded,
         options: &crate::args::SweepOverride,
     ) -> Result<Vec<f64>, Reported> {
-        let file_sweep = circuit.sweep_or_default();
+        let file_sweep = loaded.circuit.sweep_or_default();
         if options.is_empty() {
             return Ok(file_sweep.frequencies());
         }
         let line = sweep_line(&file_sweep, options);
-        let compiled = rolloff_netlist::compile(&line, &CompileOptions::default());
+        // The file is compiled again with its `sweep` line replaced, so the options mean
+        // exactly what the language means; only diagnostics on that line are new.
+        let (text, at) = replace_sweep(&loaded.source.text, &line);
+        let options = CompileOptions {
+            overrides: self.overrides.clone(),
+        };
+        let compiled = rolloff_netlist::compile(&text, &options);
         let source = Source {
             name: COMMAND_LINE.to_string(),
-            text: line,
+            text: line.clone(),
         };
-        for diagnostic in &compiled.diagnostics {
-            self.message(&message_of(diagnostic), &source);
+        let mut reported = false;
+        for diagnostic in compiled.diagnostics.iter().filter(|d| d.is_error()) {
+            let mut message = message_of(diagnostic);
+            let inside = diagnostic.span.start >= at && diagnostic.span.end <= at + line.len();
+            message.span = inside.then(|| diagnostic.span.start - at..diagnostic.span.end - at);
+            self.message(&message, &source);
+            reported = true;
         }
-        let has_errors = compiled.has_errors();
         match compiled.circuit.and_then(|c| c.sweep) {
             Some(sweep) => Ok(sweep.frequencies()),
-            None if has_errors => Err(Reported),
+            None if reported => Err(Reported),
             None => Err(self.error("the sweep options do not describe a sweep")),
         }
     }
+}
+
+/// The source with its `sweep` statement replaced by `line` (or `line` appended), and
+/// the byte offset where `line` starts.
+fn replace_sweep(source: &str, line: &str) -> (String, usize) {
+    let mut text = String::with_capacity(source.len() + line.len());
+    let mut at = None;
+    for original in source.split_inclusive('\n') {
+        let first_word = original.split_whitespace().next();
+        if first_word == Some("sweep") && at.is_none() {
+            at = Some(text.len());
+            text.push_str(line);
+        } else {
+            text.push_str(original);
+        }
+    }
+    let at = at.unwrap_or_else(|| {
+        if !text.is_empty() && !text.ends_with('\n') {
+            text.push('\n');
+        }
+        let at = text.len();
+        text.push_str(line);
+        at
+    });
+    (text, at)
 }
 
 /// A `sweep` line from the file's sweep and the options that replace parts of it.

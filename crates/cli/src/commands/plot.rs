@@ -15,7 +15,7 @@ use crate::svg::{self, Marker, Plot, Point, Trace};
 pub fn run(args: &PlotArgs, session: &Session) -> Result<Outcome, Reported> {
     let loaded = session.load(&args.input.file)?;
     let mut analyzer = session.analyzer(&loaded)?;
-    let freqs = session.frequencies(&loaded.circuit, &args.sweep)?;
+    let freqs = session.frequencies(&loaded, &args.sweep)?;
     let circuit = loaded.circuit.clone();
     if circuit.probes.is_empty() {
         return Err(session.error(&format!(

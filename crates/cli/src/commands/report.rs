@@ -22,7 +22,7 @@ use crate::table::{Align, Table};
 pub fn run(args: &ReportArgs, session: &Session) -> Result<Outcome, Reported> {
     let loaded = session.load(&args.input.file)?;
     let mut analyzer = session.analyzer(&loaded)?;
-    let freqs = session.frequencies(&loaded.circuit, &args.sweep)?;
+    let freqs = session.frequencies(&loaded, &args.sweep)?;
     let summaries = analyze_circuit(&mut analyzer, &freqs);
     let bias = BiasView::solve(&mut analyzer);
     let view = ReportView::new(

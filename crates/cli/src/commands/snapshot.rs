@@ -22,7 +22,7 @@ use crate::table::{Align, Table};
 pub fn run_snapshot(args: &SnapshotArgs, session: &Session) -> Result<Outcome, Reported> {
     let loaded = session.load(&args.input.file)?;
     let mut analyzer = session.analyzer(&loaded)?;
-    let freqs = session.frequencies(&loaded.circuit, &args.sweep)?;
+    let freqs = session.frequencies(&loaded, &args.sweep)?;
     let snapshot = take_snapshot(
         &mut analyzer,
         &freqs,

@@ -19,7 +19,7 @@ use crate::table::{Align, Table};
 pub fn run(args: &SweepArgs, session: &Session) -> Result<Outcome, Reported> {
     let loaded = session.load(&args.input.file)?;
     let mut analyzer = session.analyzer(&loaded)?;
-    let freqs = session.frequencies(&loaded.circuit, &args.sweep)?;
+    let freqs = session.frequencies(&loaded, &args.sweep)?;
     let view = SweepView::solve(&mut analyzer, &freqs, &loaded.source.name)
         .map_err(|m| session.error(&format!("{}: {m}", loaded.source.name)))?;
     if view.dc_skipped {
