@@ -201,7 +201,7 @@ fn gain_units(traces: &[Trace]) -> Vec<String> {
 
 fn gain_title(unit: &str) -> String {
     if unit == "dBΩ" {
-        format!("impedance [{unit}]")
+        format!("magnitude [{unit}]")
     } else {
         format!("gain [{unit}]")
     }

@@ -225,6 +225,17 @@ fn sweep_table_has_plain_headers_and_si_prefixes() {
 }
 
 #[test]
+fn a_current_drive_gives_a_transimpedance_in_dbohm() {
+    let output = run(&["sweep", &demo("loop_receiver"), "--at", "1"]);
+    assert_exit(&output, 0);
+    let text = stdout(&output);
+    assert!(text.lines().next().unwrap().contains("f [dBΩ]"), "{text}");
+    // 1 mA into 249 Ω ∥ 1 MΩ ∥ (10 kΩ + 1 MΩ), then the 10 kΩ/1 MΩ divider (Ohm's law):
+    // 246.4 Ω = 47.83 dBΩ; the 15.7 Hz corner costs 0.02 dB at 1 Hz.
+    assert!(text.contains("47.8"), "{text}");
+}
+
+#[test]
 fn sweep_csv_has_frequency_first_then_db_deg_and_ohm_columns() {
     let output = run(&["sweep", &demo("logger_antialias"), "--format", "csv"]);
     assert_exit(&output, 0);
@@ -633,4 +644,27 @@ fn completions_are_generated_for_bash() {
     assert_exit(&output, 0);
     let text = stdout(&output);
     assert!(text.contains("rolloff") && text.contains("snapshot") && text.contains("--junit"));
+}
+
+// ---------------------------------------------------------------- the README
+
+#[test]
+fn the_readme_language_example_holds_its_expectations() {
+    let file = fixture("readme_language.rol");
+    let output = run(&["check", &file]);
+    assert_exit(&output, 0);
+    // Hand analysis (Thévenin): the 600 Ω source and R1 (10.6 kΩ) against the 100 kΩ
+    // load give a DC gain of 100/110.6 = −0.876 dB and a corner at
+    // 1/(2π·(10.6 kΩ ∥ 100 kΩ)·10 nF) = 1.661 kHz.
+    let text = stdout(&output);
+    assert!(
+        text.contains("1.661 kHz") && text.contains("-0.88 dB"),
+        "{text}"
+    );
+    let readme = std::fs::read_to_string(repo_root().join("README.md")).unwrap();
+    let source = std::fs::read_to_string(repo_root().join(&file)).unwrap();
+    assert!(
+        readme.contains(&source),
+        "README.md shows the tested example verbatim"
+    );
 }

@@ -133,7 +133,9 @@ fn message_of(diagnostic: &rolloff_netlist::Diagnostic) -> Message {
             rolloff_netlist::Severity::Warning => Severity::Warning,
         }),
         message: diagnostic.message.clone(),
-        span: Some(diagnostic.span.start..diagnostic.span.end),
+        // A `--set` problem has no place in the file; it is shown without a snippet.
+        span: (diagnostic.kind != rolloff_netlist::DiagnosticKind::Override)
+            .then_some(diagnostic.span.start..diagnostic.span.end),
         label: diagnostic.expected.clone(),
         help: diagnostic.help.clone(),
         notes: diagnostic.notes.clone(),

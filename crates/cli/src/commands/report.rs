@@ -7,6 +7,7 @@ use rolloff_netlist::{PartId, PartKind, Unit};
 use rolloff_report::{ProbeSummary, ReferenceOrigin, ReportError, Side, Slope, analyze_circuit};
 use serde::Serialize;
 
+use super::sweep::{gain_unit, is_impedance};
 use super::{Outcome, Reported, Session};
 use crate::args::{Format, ReportArgs};
 use crate::csv::{Cell, Csv};
@@ -25,12 +26,19 @@ pub fn run(args: &ReportArgs, session: &Session) -> Result<Outcome, Reported> {
     let freqs = session.frequencies(&loaded, &args.sweep)?;
     let summaries = analyze_circuit(&mut analyzer, &freqs);
     let bias = BiasView::solve(&mut analyzer);
-    let view = ReportView::new(
+    let mut view = ReportView::new(
         &loaded.source.name,
         loaded.circuit.title.clone(),
         &summaries,
         bias,
     );
+    for (probe, view) in loaded.circuit.probes.iter().zip(&mut view.probes) {
+        view.gain_unit = if is_impedance(&probe.kind) {
+            "dBΩ"
+        } else {
+            gain_unit(&loaded.circuit, &probe.kind)
+        };
+    }
     let text = match args.format {
         Format::Table => view.table(),
         Format::Csv => ReportView::csv(&summaries),
@@ -63,6 +71,8 @@ struct ReportView {
 #[derive(Debug, Serialize)]
 struct ProbeView {
     name: String,
+    /// What the probe's dB are relative to: `dB`, `dBS`, `dBΩ` (impedances are `dBΩ`).
+    gain_unit: &'static str,
     /// `low-pass`, `high-pass`, `band-pass`, `band-stop`, `flat` or `irregular`.
     shape: Option<String>,
     passband: Option<PassbandView>,
@@ -268,6 +278,7 @@ fn probe_view(name: &str, s: &ProbeSummary) -> ProbeView {
     };
     ProbeView {
         name: name.to_string(),
+        gain_unit: "dB",
         shape: Some(s.shape.to_string()),
         passband: Some(PassbandView {
             gain_db: s.reference.gain_db,
@@ -326,6 +337,7 @@ impl ProbeView {
     fn failed(name: &str, error: String) -> Self {
         Self {
             name: name.to_string(),
+            gain_unit: "dB",
             shape: None,
             passband: None,
             level_db: None,
@@ -368,7 +380,7 @@ impl ProbeView {
             };
             table.push(vec![
                 "passband gain".into(),
-                fixed_unit(p.gain_db, 2, "dB"),
+                fixed_unit(p.gain_db, 2, self.gain_unit),
                 format!("at {}{origin}", eng(p.frequency_hz, "Hz")),
             ]);
         }

@@ -61,7 +61,12 @@ pub fn run_compare(args: &CompareArgs, session: &Session) -> Result<Outcome, Rep
     let mut analyzer = session.analyzer(&loaded)?;
     let thresholds = thresholds(args, session)?;
     let report = compare(&mut analyzer, &snapshot, &thresholds);
-    let view = CompareView::new(&loaded.source.name, &loaded.source.text, &snapshot, &report);
+    let mut view = CompareView::new(&loaded.source.name, &loaded.source.text, &snapshot, &report);
+    view.overrides = session
+        .overrides
+        .iter()
+        .map(|(name, value)| format!("{name}={value}"))
+        .collect();
     let text = match args.format {
         Format::Table => view.table(),
         Format::Csv => view.csv(),
@@ -120,6 +125,8 @@ struct CompareView {
     /// Whether the file's text differs from the one the snapshot was taken from.
     source_changed: Option<bool>,
     snapshot_tool_version: String,
+    /// The `--set` overrides the circuit was compiled with, as `name=value`.
+    overrides: Vec<String>,
     findings: Vec<FindingView>,
 }
 
@@ -164,6 +171,7 @@ impl CompareView {
                 .as_ref()
                 .map(|h| *h != source_hash(text)),
             snapshot_tool_version: snapshot.tool_version.clone(),
+            overrides: Vec::new(),
             findings,
         }
     }
@@ -175,9 +183,14 @@ impl CompareView {
             Some(false) => "the file is unchanged since the snapshot",
             None => "the snapshot has no source hash",
         };
+        let overrides = if self.overrides.is_empty() {
+            String::new()
+        } else {
+            format!(", compared with --set {}", self.overrides.join(" --set "))
+        };
         let _ = writeln!(
             text,
-            "{}: {changed} (snapshot by rolloff {})",
+            "{}: {changed} (snapshot by rolloff {}){overrides}",
             self.file, self.snapshot_tool_version
         );
         let mut table = Table::new(&[
