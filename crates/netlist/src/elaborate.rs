@@ -22,13 +22,63 @@ use crate::syntax::{
 use crate::units::{
     AMPERE, DIMENSIONLESS, Dim, FARAD, HENRY, HERTZ, OHM, SECOND, SIEMENS, VOLT, format_number,
 };
+use std::borrow::Cow;
 use std::collections::{HashMap, HashSet};
+use std::hash::{BuildHasherDefault, Hasher};
+
+/// FNV-1a: names are short and not adversarial, and SipHash showed up in profiles of
+/// 100 000-part files.
+struct Fnv(u64);
+
+impl Default for Fnv {
+    fn default() -> Self {
+        Fnv(0xcbf2_9ce4_8422_2325)
+    }
+}
+
+impl Hasher for Fnv {
+    fn write(&mut self, bytes: &[u8]) {
+        for &b in bytes {
+            self.0 ^= u64::from(b);
+            self.0 = self.0.wrapping_mul(0x0100_0000_01b3);
+        }
+    }
+
+    fn finish(&self) -> u64 {
+        self.0
+    }
+}
+
+/// The name tables' map type.
+type Map<K, V> = HashMap<K, V, BuildHasherDefault<Fnv>>;
+
+/// `prefix + name` without allocating at the top level.
+fn qualify<'n>(prefix: &str, name: &'n str) -> Cow<'n, str> {
+    if prefix.is_empty() {
+        Cow::Borrowed(name)
+    } else {
+        Cow::Owned(format!("{prefix}{name}"))
+    }
+}
 
 /// A value with its dimension.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub(crate) struct Quantity {
     pub value: f64,
     pub dim: Dim,
+}
+
+/// Where a value stands, for messages (`the resistance of `R1``); formatted only when
+/// there is something to report.
+struct Place<'p> {
+    what: &'p str,
+    name: &'p str,
+}
+
+impl std::fmt::Display for Place<'_> {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "the {} of `{}`", self.what, self.name)
+    }
 }
 
 /// A `let` binding.
@@ -86,16 +136,16 @@ pub(crate) fn elaborate(
     let mut e = Elaborator {
         source,
         diags: diagnostics,
-        lets: HashMap::new(),
+        lets: Map::default(),
         let_order: Vec::new(),
         blocks: HashMap::new(),
-        names: HashMap::new(),
+        names: Map::default(),
         nodes: vec!["gnd".into()],
-        node_index: HashMap::from([("gnd".to_string(), NodeId::GND)]),
+        node_index: std::iter::once(("gnd".to_string(), NodeId::GND)).collect(),
         node_span: vec![Span::default()],
         node_connections: vec![0],
         parts: Vec::new(),
-        part_index: HashMap::new(),
+        part_index: Map::default(),
         part_name_span: Vec::new(),
         bad_blocks: HashSet::new(),
         failed_parts: HashSet::new(),
@@ -109,16 +159,16 @@ pub(crate) fn elaborate(
 struct Elaborator<'a> {
     source: &'a str,
     diags: &'a mut Vec<Diagnostic>,
-    lets: HashMap<String, LetBinding>,
+    lets: Map<String, LetBinding>,
     let_order: Vec<String>,
     blocks: HashMap<String, &'a BlockDef>,
-    names: HashMap<String, (NameKind, Span)>,
+    names: Map<String, (NameKind, Span)>,
     nodes: Vec<String>,
-    node_index: HashMap<String, NodeId>,
+    node_index: Map<String, NodeId>,
     node_span: Vec<Span>,
     node_connections: Vec<u32>,
     parts: Vec<Part>,
-    part_index: HashMap<String, PartId>,
+    part_index: Map<String, PartId>,
     part_name_span: Vec<Span>,
     bad_blocks: HashSet<String>,
     failed_parts: HashSet<String>,
@@ -142,6 +192,14 @@ impl<'a> Elaborator<'a> {
     }
 
     fn run(&mut self, statements: &'a [Stmt], overrides: &[(String, Expr, String)]) -> Circuit {
+        let n = statements.len();
+        self.names.reserve(2 * n);
+        self.node_index.reserve(n);
+        self.part_index.reserve(n);
+        self.parts.reserve(n);
+        self.nodes.reserve(n);
+        self.node_span.reserve(n);
+        self.node_connections.reserve(n);
         let mut title = None;
         for stmt in statements {
             if let StmtKind::Block(def) = &stmt.kind {
@@ -170,11 +228,9 @@ impl<'a> Elaborator<'a> {
         self.renumber_nodes();
         let mut circuit = Circuit {
             title,
-            nodes: std::mem::take(&mut self.nodes),
             parts: std::mem::take(&mut self.parts),
             ..Circuit::default()
         };
-        self.nodes.clone_from(&circuit.nodes);
         if circuit.parts.is_empty() && !self.diags.iter().any(Diagnostic::is_error) {
             let end = self.source.len();
             self.error(
@@ -185,8 +241,17 @@ impl<'a> Elaborator<'a> {
             .expected = Some("expected at least one part (`resistor`, `vsrc`, …)".into());
         }
         self.analyses(statements, &mut circuit);
-        self.graph_checks(&circuit);
+        self.graph_checks(&circuit.parts);
         self.unused_lets();
+        circuit.nodes = std::mem::take(&mut self.nodes);
+        let texts: Vec<String> = circuit
+            .expectations
+            .iter()
+            .map(|e| crate::print::expectation_text(&circuit, e))
+            .collect();
+        for (e, text) in circuit.expectations.iter_mut().zip(texts) {
+            e.text = text;
+        }
         circuit
     }
 
@@ -198,19 +263,26 @@ impl<'a> Elaborator<'a> {
         let mut new_id = vec![u32::MAX; n];
         new_id[0] = 0;
         let mut next = 1u32;
-        for part in &self.parts {
-            for node in part.kind.nodes() {
+        for part in &mut self.parts {
+            for_each_node(&mut part.kind, |node: &mut NodeId| {
                 if new_id[node.index()] == u32::MAX {
                     new_id[node.index()] = next;
                     next += 1;
                 }
-            }
+            });
         }
         for id in &mut new_id {
             if *id == u32::MAX {
                 *id = next;
                 next += 1;
             }
+        }
+        if new_id
+            .iter()
+            .enumerate()
+            .all(|(old, &new)| old as u32 == new)
+        {
+            return;
         }
         let map = |id: &mut NodeId| *id = NodeId(new_id[id.index()]);
         for part in &mut self.parts {
@@ -325,10 +397,21 @@ impl<'a> Elaborator<'a> {
     /// Evaluates an expression; `None` (with a diagnostic) when it has no value.
     fn eval(&mut self, e: &Expr, scope: &Scope) -> Option<Quantity> {
         let q = match &e.kind {
-            ExprKind::Number(lit) => Quantity {
-                value: lit.value().ok()?,
-                dim: lit.dim(),
-            },
+            ExprKind::Number(lit) => {
+                let Ok(value) = lit.value() else {
+                    self.error(
+                        DiagnosticKind::NumberRange,
+                        e.span,
+                        "the number is out of range for a 64-bit float",
+                    )
+                    .expected = Some("out of range (about 1e-308 to 1e308)".into());
+                    return None;
+                };
+                Quantity {
+                    value,
+                    dim: lit.dim(),
+                }
+            }
             ExprKind::Pi => Quantity {
                 value: std::f64::consts::PI,
                 dim: Dim::Si(DIMENSIONLESS),
@@ -540,7 +623,13 @@ impl<'a> Elaborator<'a> {
     }
 
     /// Evaluates a value that must fit `expected`; an error shows both dimensions.
-    fn value_of(&mut self, e: &Expr, scope: &Scope, expected: Dim, place: &str) -> Option<f64> {
+    fn value_of(
+        &mut self,
+        e: &Expr,
+        scope: &Scope,
+        expected: Dim,
+        place: &dyn std::fmt::Display,
+    ) -> Option<f64> {
         let q = self.eval(e, scope)?;
         if q.dim.fits(expected) {
             return Some(q.value);
@@ -572,7 +661,13 @@ impl<'a> Elaborator<'a> {
     }
 
     /// Like [`Self::value_of`], and the value must be positive.
-    fn positive(&mut self, e: &Expr, scope: &Scope, expected: Dim, place: &str) -> Option<f64> {
+    fn positive(
+        &mut self,
+        e: &Expr,
+        scope: &Scope,
+        expected: Dim,
+        place: &dyn std::fmt::Display,
+    ) -> Option<f64> {
         let v = self.value_of(e, scope, expected, place)?;
         if v > 0.0 {
             return Some(v);
@@ -600,11 +695,12 @@ impl<'a> Elaborator<'a> {
             self.node_connections[n.index()] += 1;
             return n;
         }
-        let qualified = format!("{}{}", scope.prefix, id.name);
-        if let Some(&n) = self.node_index.get(&qualified) {
+        let qualified = qualify(&scope.prefix, &id.name);
+        if let Some(&n) = self.node_index.get(qualified.as_ref()) {
             self.node_connections[n.index()] += 1;
             return n;
         }
+        let qualified = qualified.into_owned();
         if let Some(&(kind, _)) = self.names.get(&qualified) {
             self.error(
                 DiagnosticKind::Duplicate,
@@ -631,7 +727,7 @@ impl<'a> Elaborator<'a> {
     }
 
     fn add_part(&mut self, p: &PartStmt, span: Span, scope: &Scope) {
-        let name = format!("{}{}", scope.prefix, p.name.name);
+        let name = qualify(&scope.prefix, &p.name.name).into_owned();
         let nodes: Vec<NodeId> = p.nodes.iter().map(|n| self.node_id(n, scope)).collect();
         let from: Vec<NodeId> = p.from.iter().map(|n| self.node_id(n, scope)).collect();
         if nodes.len() != p.keyword.n_nodes()
@@ -716,7 +812,10 @@ impl<'a> Elaborator<'a> {
         let Some(PartOption::Value(_, e)) = Self::option(p, key) else {
             return Ok(None);
         };
-        let place = format!("the {what} of `{}`", p.name.name);
+        let place = Place {
+            what,
+            name: &p.name.name,
+        };
         let v = if positive {
             self.positive(e, scope, dim, &place)
         } else {
@@ -780,7 +879,10 @@ impl<'a> Elaborator<'a> {
                         e,
                         scope,
                         dim,
-                        &format!("the amplitude of `{}`", p.name.name),
+                        &Place {
+                            what: "amplitude",
+                            name: &p.name.name,
+                        },
                     )),
                     Some(PartValue::Fit { span, .. }) => {
                         self.error(
@@ -903,7 +1005,10 @@ impl<'a> Elaborator<'a> {
         dim: Dim,
         what: &str,
     ) -> (Option<f64>, Option<FitRange>) {
-        let place = format!("the {what} of `{}`", p.name.name);
+        let place = Place {
+            what,
+            name: &p.name.name,
+        };
         match &p.value {
             Some(PartValue::Expr(e)) => (self.positive(e, scope, dim, &place), None),
             Some(PartValue::Fit { range, .. }) => {
@@ -914,13 +1019,19 @@ impl<'a> Elaborator<'a> {
                             lo,
                             scope,
                             dim,
-                            &format!("the lower end of the fit range of `{}`", p.name.name),
+                            &Place {
+                                what: "lower end of the fit range",
+                                name: &p.name.name,
+                            },
                         );
                         let hi_v = self.positive(
                             hi,
                             scope,
                             dim,
-                            &format!("the upper end of the fit range of `{}`", p.name.name),
+                            &Place {
+                                what: "upper end of the fit range",
+                                name: &p.name.name,
+                            },
                         );
                         let (Some(low), Some(high)) = (lo, hi_v) else {
                             return (None, None);
@@ -960,7 +1071,10 @@ impl<'a> Elaborator<'a> {
             return Ok(None);
         };
         let plain = Dim::Percent;
-        let place = format!("the tolerance of `{}`", p.name.name);
+        let place = Place {
+            what: "tolerance",
+            name: &p.name.name,
+        };
         let low = self.value_of(lo, scope, plain, &place).ok_or(())?;
         let (lower, upper, span) = match hi {
             None => {
@@ -997,7 +1111,10 @@ impl<'a> Elaborator<'a> {
         let Some(PartOption::Swing(lo, hi)) = Self::option(p, "swing") else {
             return Ok(None);
         };
-        let place = format!("the output swing of `{}`", p.name.name);
+        let place = Place {
+            what: "output swing",
+            name: &p.name.name,
+        };
         let low = self.value_of(lo, scope, Dim::Si(VOLT), &place);
         let high = self.value_of(hi, scope, Dim::Si(VOLT), &place);
         let (low, high) = (low.ok_or(())?, high.ok_or(())?);
@@ -1293,14 +1410,6 @@ impl<'a> Elaborator<'a> {
                 circuit.expectations.push(e);
             }
         }
-        let texts: Vec<String> = circuit
-            .expectations
-            .iter()
-            .map(|e| crate::print::expectation_text(circuit, e))
-            .collect();
-        for (e, text) in circuit.expectations.iter_mut().zip(texts) {
-            e.text = text;
-        }
     }
 
     fn resolve_drive(&mut self, n: &Ident, circuit: &Circuit) -> Option<PartId> {
@@ -1338,7 +1447,13 @@ impl<'a> Elaborator<'a> {
         self.diags.push(d);
     }
 
-    fn frequency(&mut self, e: &Expr, scope: &Scope, place: &str, allow_zero: bool) -> Option<f64> {
+    fn frequency(
+        &mut self,
+        e: &Expr,
+        scope: &Scope,
+        place: &dyn std::fmt::Display,
+        allow_zero: bool,
+    ) -> Option<f64> {
         let v = self.value_of(e, scope, Dim::Si(HERTZ), place)?;
         if v > 0.0 || (allow_zero && v == 0.0) {
             return Some(v);
@@ -1364,9 +1479,9 @@ impl<'a> Elaborator<'a> {
                 stop,
                 per_decade,
             } => {
-                let f1 = self.frequency(start, scope, "the start of a logarithmic sweep", false);
-                let f2 = self.frequency(stop, scope, "the end of the sweep", false);
-                let n = self.value_of(per_decade, scope, Dim::Si(DIMENSIONLESS), "`per_decade`");
+                let f1 = self.frequency(start, scope, &"the start of a logarithmic sweep", false);
+                let f2 = self.frequency(stop, scope, &"the end of the sweep", false);
+                let n = self.value_of(per_decade, scope, Dim::Si(DIMENSIONLESS), &"`per_decade`");
                 let (f1, f2, n) = (f1?, f2?, n?);
                 if n.fract() != 0.0 || !(1.0..=100_000.0).contains(&n) {
                     self.error(
@@ -1405,9 +1520,9 @@ impl<'a> Elaborator<'a> {
                 })
             }
             SweepStmt::Linear { start, stop, step } => {
-                let f1 = self.frequency(start, scope, "the start of a linear sweep", true);
-                let f2 = self.frequency(stop, scope, "the end of the sweep", false);
-                let df = self.frequency(step, scope, "the step", false);
+                let f1 = self.frequency(start, scope, &"the start of a linear sweep", true);
+                let f2 = self.frequency(stop, scope, &"the end of the sweep", false);
+                let df = self.frequency(step, scope, &"the step", false);
                 let (f1, f2, df) = (f1?, f2?, df?);
                 if f2 <= f1 {
                     self.error(
@@ -1439,7 +1554,7 @@ impl<'a> Elaborator<'a> {
             SweepStmt::List(points) => {
                 let values: Vec<Option<f64>> = points
                     .iter()
-                    .map(|p| self.frequency(p, scope, "a sweep frequency", true))
+                    .map(|p| self.frequency(p, scope, &"a sweep frequency", true))
                     .collect();
                 values
                     .into_iter()
@@ -1515,7 +1630,7 @@ impl<'a> Elaborator<'a> {
             return None;
         }
         let reference = match &p.reference {
-            Some(e) => Some(self.frequency(e, scope, "the reference frequency", false)?),
+            Some(e) => Some(self.frequency(e, scope, &"the reference frequency", false)?),
             None => None,
         };
         Some(Probe {
@@ -1604,7 +1719,7 @@ impl<'a> Elaborator<'a> {
                         ok = false;
                         continue;
                     }
-                    match self.frequency(e, scope, "a metric's frequency", false) {
+                    match self.frequency(e, scope, &"a metric's frequency", false) {
                         Some(f) => freqs.push(f),
                         None => ok = false,
                     }
@@ -1624,10 +1739,10 @@ impl<'a> Elaborator<'a> {
                         ok = false;
                     } else if is_ref {
                         options.reference =
-                            self.frequency(e, scope, "the reference frequency", false);
+                            self.frequency(e, scope, &"the reference frequency", false);
                         ok &= options.reference.is_some();
                     } else {
-                        options.level_db = self.bound(e, scope, Unit::Decibel, "the level");
+                        options.level_db = self.bound(e, scope, Unit::Decibel, &"the level");
                         ok &= options.level_db.is_some();
                     }
                 }
@@ -1675,7 +1790,13 @@ impl<'a> Elaborator<'a> {
 
     /// A comparison bound converted to the metric's unit; a bare number is refused
     /// unless the unit is a plain number.
-    fn bound(&mut self, e: &Expr, scope: &Scope, unit: Unit, place: &str) -> Option<f64> {
+    fn bound(
+        &mut self,
+        e: &Expr,
+        scope: &Scope,
+        unit: Unit,
+        place: &dyn std::fmt::Display,
+    ) -> Option<f64> {
         let q = self.eval(e, scope)?;
         let wanted = unit_dim(unit);
         if unit == Unit::Dimensionless {
@@ -1723,16 +1844,16 @@ impl<'a> Elaborator<'a> {
     fn comparison(&mut self, c: &CmpSyntax, unit: Unit, scope: &Scope) -> Option<Comparison> {
         let place = "the bound";
         Some(match c {
-            CmpSyntax::Less(e) => Comparison::Less(self.bound(e, scope, unit, place)?),
-            CmpSyntax::LessEqual(e) => Comparison::LessEqual(self.bound(e, scope, unit, place)?),
-            CmpSyntax::Greater(e) => Comparison::Greater(self.bound(e, scope, unit, place)?),
+            CmpSyntax::Less(e) => Comparison::Less(self.bound(e, scope, unit, &place)?),
+            CmpSyntax::LessEqual(e) => Comparison::LessEqual(self.bound(e, scope, unit, &place)?),
+            CmpSyntax::Greater(e) => Comparison::Greater(self.bound(e, scope, unit, &place)?),
             CmpSyntax::GreaterEqual(e) => {
-                Comparison::GreaterEqual(self.bound(e, scope, unit, place)?)
+                Comparison::GreaterEqual(self.bound(e, scope, unit, &place)?)
             }
             CmpSyntax::Within(lo, hi) => {
                 let (low, high) = (
-                    self.bound(lo, scope, unit, "the lower bound"),
-                    self.bound(hi, scope, unit, "the upper bound"),
+                    self.bound(lo, scope, unit, &"the lower bound"),
+                    self.bound(hi, scope, unit, &"the upper bound"),
                 );
                 let (low, high) = (low?, high?);
                 if low > high {
@@ -1748,7 +1869,7 @@ impl<'a> Elaborator<'a> {
                 Comparison::Within { low, high }
             }
             CmpSyntax::Equal(e, tol) => {
-                let value = self.bound(e, scope, unit, "the value");
+                let value = self.bound(e, scope, unit, &"the value");
                 let deviation = match tol {
                     Some(t) => self.deviation(t, scope, unit).map(|d| match d {
                         // A bare tolerance is in the value's unit as written: dB/oct
@@ -1813,10 +1934,11 @@ impl<'a> Elaborator<'a> {
 
     // ------------------------------------------------------------ checks
 
-    fn graph_checks(&mut self, circuit: &Circuit) {
-        let n = circuit.nodes.len();
+    fn graph_checks(&mut self, parts: &[Part]) {
+        let nodes = std::mem::take(&mut self.nodes);
+        let n = nodes.len();
         let mut parent: Vec<u32> = (0..n as u32).collect();
-        for part in &circuit.parts {
+        for part in parts {
             for (a, b) in conductive_pairs(&part.kind) {
                 union(&mut parent, a.0, b.0);
             }
@@ -1832,11 +1954,7 @@ impl<'a> Elaborator<'a> {
         let mut groups: Vec<Vec<usize>> = groups.into_values().collect();
         groups.sort_by_key(|g| g[0]);
         for group in groups {
-            let names: Vec<&str> = group
-                .iter()
-                .take(6)
-                .map(|&i| circuit.nodes[i].as_str())
-                .collect();
+            let names: Vec<&str> = group.iter().take(6).map(|&i| nodes[i].as_str()).collect();
             let message = if group.len() == 1 {
                 format!("node `{}` has no path to `gnd` through any part", names[0])
             } else {
@@ -1864,7 +1982,7 @@ impl<'a> Elaborator<'a> {
             if self.node_connections[node] != 1 {
                 continue;
             }
-            let name = &circuit.nodes[node];
+            let name = &nodes[node];
             let mut d = Diagnostic::warning(
                 DiagnosticKind::SingleConnection,
                 self.node_span[node],
@@ -1873,8 +1991,7 @@ impl<'a> Elaborator<'a> {
             .with_expected("nothing else connects here");
             if suggestions < 50 {
                 suggestions += 1;
-                let others = circuit
-                    .nodes
+                let others = nodes
                     .iter()
                     .enumerate()
                     .filter(|&(i, _)| i != node)
@@ -1885,6 +2002,7 @@ impl<'a> Elaborator<'a> {
             }
             self.diags.push(d);
         }
+        self.nodes = nodes;
     }
 
     fn unused_lets(&mut self) {
@@ -1917,7 +2035,7 @@ impl WithNote for Diagnostic {
 }
 
 /// Applies `f` to every node of a part.
-fn for_each_node(kind: &mut PartKind, f: impl Fn(&mut NodeId)) {
+fn for_each_node(kind: &mut PartKind, mut f: impl FnMut(&mut NodeId)) {
     match kind {
         PartKind::Resistor { a, b, .. }
         | PartKind::Capacitor { a, b, .. }

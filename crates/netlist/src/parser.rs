@@ -16,7 +16,8 @@ use crate::syntax::{
 use crate::units::{Literal, LiteralError, UnitSym, prefix_exponent};
 use nom::bytes::complete::{tag, take_while};
 use nom::character::complete::digit1;
-use nom::error::{ErrorKind, ParseError};
+use nom::combinator::cut;
+use nom::error::{ErrorKind, ParseError, context};
 use nom::{IResult, Input, Parser};
 use nom_locate::LocatedSpan;
 
@@ -357,6 +358,7 @@ fn literal(i: In<'_>) -> PResult<'_, (Literal, Span)> {
         exponent: 0,
         prefix: None,
         unit: None,
+        cached: None,
     };
     let frag = *i.fragment();
     let mut chars = frag.chars();
@@ -448,9 +450,9 @@ fn exponent(i: In<'_>) -> Option<(In<'_>, i64)> {
     Some((j, if negative { -value } else { value }))
 }
 
-fn finish_literal<'a>(start: In<'a>, i: In<'a>, lit: Literal) -> PResult<'a, (Literal, Span)> {
+fn finish_literal<'a>(start: In<'a>, i: In<'a>, mut lit: Literal) -> PResult<'a, (Literal, Span)> {
     let span = span_of(&start, &i);
-    match lit.value() {
+    match lit.cache() {
         Ok(_) => Ok((i, (lit, span))),
         Err(e) => {
             let what = match e {
@@ -593,7 +595,10 @@ fn signed_literal(i: In<'_>) -> PResult<'_, (Literal, Span)> {
     } else {
         literal(i)?
     };
-    lit.negative = negative == Some(true);
+    if negative == Some(true) {
+        lit.negative = true;
+        lit.cached = lit.cached.map(|v| -v);
+    }
     Ok((i, (lit, Span::new(start.location_offset(), span.end))))
 }
 
@@ -834,6 +839,8 @@ fn share_unit(low: &mut Expr, high: &Expr) {
             lo.prefix = hi.prefix;
         }
         lo.unit = hi.unit;
+        // The lower end read fine without the unit; with it, it can only shift in scale.
+        let _ = lo.cache();
     }
 }
 
@@ -877,23 +884,27 @@ fn statement(i: In<'_>) -> PResult<'_, StmtKind> {
         return fail(not_a_statement(&i));
     };
     let (rest, _) = word(i)?;
-    let result = match kw.name.as_str() {
-        "title" => title(rest),
-        "let" => let_stmt(rest),
-        "drive" => name(rest).map(|(j, n)| (j, StmtKind::Drive(n))),
-        "block" => block_header(rest),
+    // Once the keyword is known the line is committed: `cut` keeps errors on the real
+    // token, and `context` names the statement in the message.
+    let (rest, stmt) = match kw.name.as_str() {
+        "title" => cut(context("a `title` line", title)).parse(rest),
+        "let" => cut(context("a `let` line", let_stmt)).parse(rest),
+        "drive" => cut(context("a `drive` line", |i| {
+            name(i).map(|(j, n)| (j, StmtKind::Drive(n)))
+        }))
+        .parse(rest),
+        "block" => cut(context("a `block` line", block_header)).parse(rest),
         "end" => Ok((rest, StmtKind::End)),
-        "use" => use_stmt(rest, None),
-        "chain" => chain_stmt(rest),
-        "sweep" => sweep(rest),
-        "probe" => probe(rest),
-        "expect" => expect(rest),
+        "use" => cut(context("a `use` line", |i| use_stmt(i, None))).parse(rest),
+        "chain" => cut(context("a `chain` line", chain_stmt)).parse(rest),
+        "sweep" => cut(context("a `sweep` line", sweep)).parse(rest),
+        "probe" => cut(context("a `probe` line", probe)).parse(rest),
+        "expect" => cut(context("an `expect` line", expect)).parse(rest),
         w => match PartKeyword::from_word(w) {
-            Some(k) => part(rest, k),
+            Some(k) => cut(context("a part line", |i| part(i, k))).parse(rest),
             None => return fail(unknown_keyword(&kw)),
         },
-    };
-    let (rest, stmt) = cut_err(result)?;
+    }?;
     let (rest, ()) = ws(rest)?;
     if !rest.fragment().is_empty() {
         return fail(PError::at(&rest, "the end of the line"));
@@ -1139,8 +1150,15 @@ fn bad_option(w: &Ident, k: PartKeyword) -> PError {
     } else {
         format!("unexpected `{}`", w.name)
     };
-    PError::custom(w.span.start, w.name.len(), DiagnosticKind::Syntax, message)
-        .label(format!("expected {}", option_expectation(k)))
+    let e = PError::custom(w.span.start, w.name.len(), DiagnosticKind::Syntax, message)
+        .label(format!("expected {}", option_expectation(k)));
+    if w.name.chars().count() == 1 && w.name.chars().all(|c| prefix_exponent(c).is_some()) {
+        return e.help(format!(
+            "an SI prefix is glued to the number (`10{0}`) or to its unit (`10 {0}Ω`)",
+            w.name
+        ));
+    }
+    e
 }
 
 /// `block name (pins) [param = value, …]`
@@ -1397,7 +1415,8 @@ fn comment_start(line: &str) -> usize {
 
 /// Parses a whole source: every line's statement, blocks grouped, and every error.
 pub(crate) fn parse(source: &str) -> (Vec<Stmt>, Vec<Diagnostic>) {
-    let mut statements = Vec::new();
+    let n_lines = source.bytes().filter(|&b| b == b'\n').count() + 1;
+    let mut statements = Vec::with_capacity(n_lines);
     let mut diagnostics = Vec::new();
     let mut rest = LocatedSpan::new(source);
     while !rest.fragment().is_empty() {
@@ -1473,7 +1492,14 @@ pub(crate) fn parse_expression(text: &str) -> Result<Expr, Diagnostic> {
 
 /// Puts `block … end` together and checks what may appear inside a block.
 fn group_blocks(statements: Vec<Stmt>, diagnostics: &mut Vec<Diagnostic>) -> Vec<Stmt> {
-    let mut top = Vec::new();
+    let has_blocks = statements
+        .iter()
+        .any(|s| matches!(s.kind, StmtKind::BlockStart(_) | StmtKind::End));
+    if !has_blocks {
+        // Nothing to group: keep the vector (a large file is mostly part lines).
+        return statements;
+    }
+    let mut top = Vec::with_capacity(statements.len());
     let mut open: Option<(BlockDef, Span)> = None;
     for stmt in statements {
         match stmt.kind {

@@ -298,6 +298,8 @@ pub(crate) struct Literal {
     pub prefix: Option<i64>,
     /// The unit, if written (`R` codes imply Ω).
     pub unit: Option<UnitSym>,
+    /// The value, once computed by [`Literal::cache`].
+    pub cached: Option<f64>,
 }
 
 /// Why a literal has no finite value.
@@ -313,13 +315,27 @@ impl Literal {
     /// The value in SI units (a percentage as a fraction, dB/oct as dB/dec), rounded
     /// once from the decimal text, so `4k7`, `4.7k` and `4700` are the same number.
     pub(crate) fn value(&self) -> Result<f64, LiteralError> {
+        if let Some(v) = self.cached {
+            return Ok(v);
+        }
+        self.compute()
+    }
+
+    /// Stores the value, so later reads need no parsing.
+    pub(crate) fn cache(&mut self) -> Result<f64, LiteralError> {
+        self.cached = None;
+        let v = self.compute()?;
+        self.cached = Some(v);
+        Ok(v)
+    }
+
+    fn compute(&self) -> Result<f64, LiteralError> {
         let mut exponent = self.exponent.saturating_add(self.prefix.unwrap_or(0));
         if self.unit == Some(UnitSym::Percent) {
             exponent = exponent.saturating_sub(2);
         }
         let sign = if self.negative { "-" } else { "" };
-        let text = format!("{sign}{}e{exponent}", self.digits);
-        let mut value: f64 = text.parse().map_err(|_| LiteralError::Overflow)?;
+        let mut value = parse_decimal(sign, &self.digits, exponent)?;
         if self.unit == Some(UnitSym::DbPerOctave) {
             value *= std::f64::consts::LOG2_10;
         }
@@ -336,6 +352,23 @@ impl Literal {
     pub(crate) fn dim(&self) -> Dim {
         self.unit.map_or(Dim::Unknown, UnitSym::dim)
     }
+}
+
+/// Reads `sign digits e exponent` as a correctly rounded float, without allocating
+/// for the usual short literals.
+fn parse_decimal(sign: &str, digits: &str, exponent: i64) -> Result<f64, LiteralError> {
+    use std::io::Write as _;
+    let mut buffer = [0u8; 64];
+    let mut cursor = std::io::Cursor::new(&mut buffer[..]);
+    if write!(cursor, "{sign}{digits}e{exponent}").is_ok() {
+        let len = cursor.position() as usize;
+        if let Ok(text) = std::str::from_utf8(&buffer[..len]) {
+            return text.parse().map_err(|_| LiteralError::Overflow);
+        }
+    }
+    format!("{sign}{digits}e{exponent}")
+        .parse()
+        .map_err(|_| LiteralError::Overflow)
 }
 
 /// Formats `value` as the shortest decimal text that reads back to exactly the same

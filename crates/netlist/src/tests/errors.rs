@@ -420,6 +420,11 @@ fn nesting_depth_is_bounded() {
     );
     let d = &diagnostics(&deep)[0];
     assert_eq!(d.kind, K::TooDeep);
+    assert_eq!(
+        crate::line_col(&deep, d.span.start),
+        (2, 22 + 64),
+        "at the 65th parenthesis"
+    );
     assert!(d.message.contains("at most 64 levels"), "{}", d.message);
     let signs = format!("{V}resistor R1 (a, gnd) ({}1)\n", "-".repeat(10_000));
     assert_eq!(diagnostics(&signs)[0].kind, K::TooDeep);
@@ -502,6 +507,12 @@ fn warnings() {
     assert_eq!(d[1].message, "node `ot` has only one connection");
     assert_eq!(d[1].help.as_deref(), Some("did you mean `out`?"));
     assert_eq!(d[2].message, "both ends of `R2` are on node `out`");
+    let source = "let unused = 3\nvsrc V1 (out, gnd) 1 V\nresistor R1 (out, gnd) 1k\ncapacitor C1 (ot, gnd) 1n\nresistor R2 (out, out) 1k\n";
+    let at: Vec<(usize, usize)> = d
+        .iter()
+        .map(|d| crate::line_col(source, d.span.start))
+        .collect();
+    assert_eq!(at, [(1, 5), (4, 15), (5, 10)]);
     // A circuit with warnings only is still built.
     assert!(
         compile(

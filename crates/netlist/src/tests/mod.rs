@@ -74,3 +74,25 @@ pub(super) fn plain(text: &str) -> f64 {
         ref other => panic!("not a vcvs: {other:?}"),
     }
 }
+
+/// The examples of `docs/language.md`, put together, make one valid file.
+#[test]
+fn language_reference_examples_compile() {
+    let doc = std::fs::read_to_string(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/../../docs/language.md"
+    ))
+    .unwrap();
+    let mut source = String::new();
+    let mut inside = false;
+    for line in doc.lines() {
+        if line.starts_with("```") {
+            inside = !inside;
+        } else if inside {
+            source.push_str(line);
+            source.push('\n');
+        }
+    }
+    let c = ok(&source);
+    assert!(c.parts.len() > 15 && c.expectations.len() == 5 && c.probes.len() == 3);
+}
