@@ -56,6 +56,8 @@ mod analyzer;
 mod bias;
 mod error;
 mod solver;
+#[cfg(feature = "sparse")]
+mod sparse;
 mod system;
 mod topology;
 
@@ -63,4 +65,6 @@ pub use analyzer::Analyzer;
 pub use bias::BiasReport;
 pub use error::{BiasWarning, MnaError, MnaWarning};
 pub use solver::{DenseLu, FactorReport, LinearSolver, SolverError};
+#[cfg(feature = "sparse")]
+pub use sparse::SparseLu;
 pub use system::{Coef, Matrix, ParamRole, Parameter, SourceStamp, StampEntry, System, Unknown};
