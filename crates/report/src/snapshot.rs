@@ -10,7 +10,7 @@
 use crate::analysis::Analysis;
 use crate::format::{fmt_hz, fmt_value};
 use crate::numeric::circular_difference;
-use crate::{ReportError, ResponseSource, analyze};
+use crate::{ReportError, ResponseSource, SampledResponse, analyze};
 use rolloff_netlist::Unit;
 use serde::{Deserialize, Serialize};
 
@@ -84,6 +84,35 @@ impl Snapshot {
             )));
         }
         Ok(snapshot)
+    }
+}
+
+impl Snapshot {
+    /// A probe's stored curves as a [`SampledResponse`], so metrics can be measured on a
+    /// snapshot as on any measured data (points without a value are left out).
+    ///
+    /// # Errors
+    /// [`ReportError::BadArgument`] when no probe has that name, or
+    /// [`ReportError::BadSamples`] when fewer than two points have values.
+    pub fn response(&self, probe: &str) -> Result<SampledResponse, ReportError> {
+        let p = self
+            .probes
+            .iter()
+            .find(|p| p.name == probe)
+            .ok_or_else(|| {
+                ReportError::BadArgument(format!("the snapshot has no probe `{probe}`"))
+            })?;
+        let mut freqs = Vec::new();
+        let mut gains = Vec::new();
+        let mut phases = Vec::new();
+        for ((f, g), ph) in self.frequencies_hz.iter().zip(&p.gain_db).zip(&p.phase_deg) {
+            if let (Some(g), Some(ph)) = (g, ph) {
+                freqs.push(*f);
+                gains.push(*g);
+                phases.push(*ph);
+            }
+        }
+        SampledResponse::from_db_deg(freqs, gains, phases)
     }
 }
 
@@ -258,7 +287,14 @@ impl std::fmt::Display for Finding {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         let value =
             |v: Option<f64>| v.map_or_else(|| "none".to_string(), |v| fmt_value(v, self.unit));
-        write!(f, "{} {}", self.probe, self.quantity)?;
+        if self.probe.is_empty() {
+            f.write_str(&self.quantity)?;
+        } else {
+            write!(f, "{} {}", self.probe, self.quantity)?;
+        }
+        if self.actual.is_none() && self.expected.is_none() {
+            return Ok(());
+        }
         if let Some(at) = self.at_hz {
             write!(f, " at {}", fmt_hz(at))?;
         }

@@ -335,6 +335,21 @@ fn snapshot_round_trip_and_a_one_percent_change_is_caught() {
     let back = Snapshot::from_json(&json).unwrap();
     assert_eq!(back, snapshot);
 
+    // Metrics on the stored curves, as on measured data: the cutoff interpolated between
+    // samples 1/40 decade apart lies within 0.1 % of the solver's.
+    let mut stored = back.response("out").unwrap();
+    let summary = analyze(&mut stored, &freqs, None).unwrap();
+    let solved = snapshot.probes[0]
+        .metrics
+        .iter()
+        .find(|m| m.name == "cutoff")
+        .unwrap();
+    assert!(rel(summary.cutoffs[0].freq_hz, solved.value) < 1e-3);
+    assert_eq!(
+        back.response("nope").unwrap_err().to_string(),
+        "the snapshot has no probe `nope`"
+    );
+
     // The same circuit compares clean.
     let same = compare(&mut analyzer, &back, &Thresholds::default());
     assert!(same.pass(), "{:?}", same.failures().collect::<Vec<_>>());
@@ -363,6 +378,22 @@ fn snapshot_round_trip_and_a_one_percent_change_is_caught() {
     assert!((gain.deviation.unwrap() - 20.0 * 1.01f64.log10()).abs() < 1e-3);
     assert!(gain.at_hz.unwrap() < 2.0);
     assert!(gain.to_string().starts_with("out gain at 1 Hz: "));
+
+    // Another sweep or another set of probes is a failure by itself.
+    let mut other = back.clone();
+    other.frequencies_hz.pop();
+    other.probes.pop();
+    let now = take_snapshot(&mut analyzer, &freqs, None);
+    let report = compare_snapshots(&other, &now, &Thresholds::default());
+    let text: Vec<String> = report.failures().map(ToString::to_string).collect();
+    assert!(
+        text.contains(&"sweep frequencies differ".to_string()),
+        "{text:?}"
+    );
+    assert!(
+        text.contains(&"zin probe not in the snapshot".to_string()),
+        "{text:?}"
+    );
 }
 
 #[test]
@@ -486,4 +517,43 @@ proptest::proptest! {
         let g = measure(&mut analyzer, &m(MetricKind::GroupDelay { freq: fc }, None), &freqs).unwrap();
         proptest::prop_assert!(rel(g, tau / 2.0) < 1e-9);
     }
+}
+
+/// Series R–L, C to ground, output across C: H = 1/(s²LC + sRC + 1), Q = √(L/C)/R
+/// (textbook second-order low-pass). With Q = 2 it peaks 20·log10(Q/√(1 − 1/(4Q²)))
+/// = 6.30 dB above DC, and |H|² = 1/2 at x² = (b + √(b² + 4))/2, b = 2 − 1/Q², x = ω√(LC).
+#[test]
+fn probe_reference_measures_a_peaking_low_pass_from_its_flat_region() {
+    let (r, l, c): (f64, f64, f64) = (50.0, 10e-3, 1e-6);
+    let q = (l / c).sqrt() / r;
+    assert!((q - 2.0).abs() < 1e-12);
+    let f0 = 1.0 / (2.0 * PI * (l * c).sqrt());
+    let b = 2.0 - 1.0 / (q * q);
+    let fc = f0 * f64::midpoint(b, (b * b + 4.0).sqrt()).sqrt();
+    let peaking = 20.0 * (q / (1.0 - 1.0 / (4.0 * q * q)).sqrt()).log10();
+    let text = format!(
+        "vsrc V1 (in, gnd) 1 V\nresistor R1 (in, m) 50\ninductor L1 (m, out) 10 mH\n\
+         capacitor C1 (out, gnd) 1 uF\nsweep 1 Hz to 100 kHz per_decade 40\nprobe out ref 1 Hz\n\
+         expect cutoff(out) = {fc} Hz ± 0.001 %\nexpect peaking(out) = {peaking} dB ± 0.001 dB\n\
+         expect passband_gain(out) = 0 dB ± 0.001 dB\n"
+    );
+    let circuit = circuit_from(&text);
+    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let freqs = sweep_frequencies(&circuit);
+    for v in check(&mut analyzer, &freqs) {
+        assert!(v.pass, "{v}");
+        assert!(v.warnings.is_empty(), "{:?}", v.warnings);
+    }
+    // Without the `ref`, the reference is the peak: against it the response reads as a
+    // band-pass, and the summary says why.
+    let mut source = ProbeSource::new(&mut analyzer, ProbeKind::Node(circuit.node("out").unwrap()));
+    let s = analyze(&mut source, &freqs, None).unwrap();
+    assert_eq!(s.shape, Shape::BandPass);
+    // Against the flat region at 1 Hz, which lies 7e-6 dB above the DC gain.
+    assert!((s.peaking_db.unwrap() - peaking).abs() < 1e-4);
+    assert!(
+        s.warnings
+            .iter()
+            .any(|w| matches!(w, ReportWarning::PeaksAboveFlat { .. }))
+    );
 }

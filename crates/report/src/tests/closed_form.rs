@@ -578,3 +578,38 @@ proptest::proptest! {
         proptest::prop_assert!(rel(f, fc) < 1e-9);
     }
 }
+
+proptest::proptest! {
+    #![proptest_config(proptest::prelude::ProptestConfig::with_cases(64))]
+    /// Whatever the data, no metric panics and every value found is finite.
+    #[test]
+    fn any_sampled_data_gives_finite_values_or_reasons(
+        gains in proptest::collection::vec(-120.0f64..40.0, 2..40),
+        phase_seed in -720.0f64..720.0,
+    ) {
+        let n = gains.len();
+        let freqs: Vec<f64> = (0..n).map(|i| 10f64.powf(1.0 + i as f64 / 8.0)).collect();
+        let phases: Vec<f64> = (0..n).map(|i| phase_seed * (i as f64 / 7.0).sin()).collect();
+        let mut data = SampledResponse::from_db_deg(freqs.clone(), gains, phases).unwrap();
+        let mid = freqs[n / 2];
+        let kinds = [
+            MetricKind::Cutoff, MetricKind::CutoffLow, MetricKind::CutoffHigh,
+            MetricKind::Bandwidth, MetricKind::PassbandGain, MetricKind::Resonance,
+            MetricKind::Q, MetricKind::PeakGain, MetricKind::PeakFreq, MetricKind::Peaking,
+            MetricKind::NotchFreq, MetricKind::NotchDepth, MetricKind::Gain { freq: mid },
+            MetricKind::Phase { freq: mid }, MetricKind::GroupDelay { freq: mid },
+            MetricKind::Slope { f1: freqs[0], f2: mid }, MetricKind::Impedance { freq: mid },
+        ];
+        for kind in kinds {
+            for reference in [None, Some(mid)] {
+                if let Ok(v) = measure(&mut data, &freqs, kind, reference) {
+                    proptest::prop_assert!(v.is_finite(), "{kind:?}: {v}");
+                }
+            }
+        }
+        let s = analyze(&mut data, &freqs, None).unwrap();
+        for (_, _, v) in s.named_values() {
+            proptest::prop_assert!(v.is_finite());
+        }
+    }
+}
