@@ -668,3 +668,22 @@ fn the_readme_language_example_holds_its_expectations() {
         "README.md shows the tested example verbatim"
     );
 }
+
+#[test]
+fn a_metric_that_cannot_be_found_fails_with_its_reason() {
+    let file = fixture("unmeasurable.rol");
+    let output = run(&["check", &file]);
+    assert_exit(&output, 1);
+    let text = stdout(&output);
+    assert!(text.contains("not measured: no −3 dB crossing"), "{text}");
+    assert!(!text.contains("NaN"));
+    let output = run(&["check", &file, "--format", "json"]);
+    let json: serde_json::Value = serde_json::from_str(&stdout(&output)).unwrap();
+    let first = &json["files"][0]["expectations"][0];
+    assert_eq!(first["pass"], false);
+    assert!(first["measured"].is_null());
+    assert!(first["reason"].as_str().unwrap().contains("−3 dB"));
+    // An equal divider halves the voltage: 20·log10(1/2) = −6.0206 dB.
+    let second = &json["files"][0]["expectations"][1];
+    assert!((second["measured"].as_f64().unwrap() + 6.0206).abs() < 1e-4);
+}
