@@ -774,6 +774,26 @@ mod tests {
     }
 
     #[test]
+    fn an_impedance_gets_its_own_panel() {
+        let mut plot = sample();
+        plot.traces[1].gain_unit = "dBΩ".into();
+        let text = render(&plot);
+        let doc = roxmltree::Document::parse(&text).unwrap();
+        let panels: Vec<_> = doc
+            .descendants()
+            .filter(|n| n.attribute("class") == Some("panel"))
+            .map(|n| n.attribute("id").unwrap().to_string())
+            .collect();
+        assert_eq!(panels, ["panel-gain", "panel-gain2", "panel-phase"]);
+        assert!(text.contains(">magnitude [dBΩ]</text>"));
+        let buf = doc
+            .descendants()
+            .find(|n| n.attribute("data-probe") == Some("buf"))
+            .unwrap();
+        assert_eq!(buf.attribute("clip-path"), Some("url(#clip-gain2)"));
+    }
+
+    #[test]
     fn an_empty_plot_still_renders() {
         let text = render(&Plot::default());
         roxmltree::Document::parse(&text).unwrap();
