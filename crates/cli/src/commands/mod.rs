@@ -244,3 +244,56 @@ fn sweep_line(file_sweep: &rolloff_netlist::Sweep, options: &crate::args::SweepO
     };
     format!("sweep {from} to {to} {step}\n")
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::args::SweepOverride;
+    use rolloff_netlist::Sweep;
+
+    #[test]
+    fn the_sweep_line_is_replaced_or_appended() {
+        let source =
+            "# sweep in a comment stays\nprobe out\n  sweep 1 Hz to 1 kHz per_decade 5\nexpect x\n";
+        let (text, at) = replace_sweep(source, "sweep at 5 Hz\n");
+        assert_eq!(
+            text,
+            "# sweep in a comment stays\nprobe out\nsweep at 5 Hz\nexpect x\n"
+        );
+        assert_eq!(&text[at..at + 5], "sweep");
+        let (text, at) = replace_sweep("probe out", "sweep at 5 Hz\n");
+        assert_eq!(text, "probe out\nsweep at 5 Hz\n");
+        assert_eq!(at, 10);
+    }
+
+    #[test]
+    fn options_replace_only_what_they_name() {
+        let file = Sweep::Log {
+            start: 10.0,
+            stop: 1e5,
+            per_decade: 40,
+        };
+        let only_points = SweepOverride {
+            per_decade: Some(5),
+            ..SweepOverride::default()
+        };
+        assert_eq!(
+            sweep_line(&file, &only_points),
+            "sweep 1e1 Hz to 1e5 Hz per_decade 5\n"
+        );
+        let linear = SweepOverride {
+            from: Some("0".into()),
+            every: Some("1 kHz".into()),
+            ..SweepOverride::default()
+        };
+        assert_eq!(
+            sweep_line(&file, &linear),
+            "sweep 0 to 1e5 Hz every 1 kHz\n"
+        );
+        let spots = SweepOverride {
+            at: vec!["50".into(), "1k".into()],
+            ..SweepOverride::default()
+        };
+        assert_eq!(sweep_line(&file, &spots), "sweep at 50, 1k\n");
+    }
+}
