@@ -57,9 +57,10 @@ pub fn write_output(path: &Path, text: &str) -> Result<(), String> {
     std::fs::write(path, text).map_err(|e| format!("cannot write `{}`: {e}", path.display()))
 }
 
-/// Prints data to standard output. A closed pipe (`rolloff sweep … | head`) ends the
-/// output quietly instead of failing.
+/// Prints data to standard output. ANSI styles in `text` are kept only on a terminal
+/// (and never with `NO_COLOR`), so piped data is plain. A closed pipe
+/// (`rolloff sweep … | head`) ends the output quietly instead of failing.
 pub fn print_stdout(text: &str) {
-    let mut out = io::stdout().lock();
+    let mut out = anstream::stdout().lock();
     let _ = out.write_all(text.as_bytes()).and_then(|()| out.flush());
 }

@@ -622,6 +622,11 @@ fn colour_only_when_asked_and_never_with_no_color() {
         &[("CLICOLOR_FORCE", "1"), ("NO_COLOR", "1")],
     );
     assert!(!stderr(&output).contains('\u{1b}'), "NO_COLOR wins");
+    // The verdict table is coloured the same way; piped, it stays plain.
+    let output = run(&["--color", "always", "check", &fixture("failing.rol")]);
+    assert!(stdout(&output).contains("\u{1b}[32mpass"));
+    let output = run(&["check", &fixture("failing.rol")]);
+    assert!(!stdout(&output).contains('\u{1b}'));
 }
 
 #[test]

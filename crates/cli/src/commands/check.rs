@@ -190,7 +190,7 @@ fn table(results: &[FileResult]) -> String {
                 reasons.push(format!("  line {line}: not measured: {e}\n"));
             }
         }
-        text.push_str(&table.render());
+        text.push_str(&styled_results(&table.render()));
         for reason in reasons {
             text.push_str(&reason);
         }
@@ -202,6 +202,23 @@ fn table(results: &[FileResult]) -> String {
     }
     let _ = writeln!(text, "check: {passed} passed, {failed} failed");
     text
+}
+
+/// Colours the leading `pass`/`FAIL` of each row (stripped again off a terminal).
+fn styled_results(table: &str) -> String {
+    let green = anstyle::AnsiColor::Green.on_default();
+    let red = anstyle::AnsiColor::Red.on_default().bold();
+    let mut out = String::with_capacity(table.len());
+    for line in table.split_inclusive('\n') {
+        if let Some(rest) = line.strip_prefix("pass") {
+            let _ = write!(out, "{green}pass{green:#}{rest}");
+        } else if let Some(rest) = line.strip_prefix("FAIL") {
+            let _ = write!(out, "{red}FAIL{red:#}{rest}");
+        } else {
+            out.push_str(line);
+        }
+    }
+    out
 }
 
 fn csv(results: &[FileResult]) -> String {
