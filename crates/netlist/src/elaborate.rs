@@ -161,7 +161,7 @@ struct Elaborator<'a> {
     diags: &'a mut Vec<Diagnostic>,
     lets: Map<String, LetBinding>,
     let_order: Vec<String>,
-    blocks: HashMap<String, &'a BlockDef>,
+    blocks: HashMap<String, &'a BlockDef<'a>>,
     names: Map<String, (NameKind, Span)>,
     nodes: Vec<String>,
     node_index: Map<String, NodeId>,
@@ -204,7 +204,7 @@ impl<'a> Elaborator<'a> {
         for stmt in statements {
             if let StmtKind::Block(def) = &stmt.kind {
                 self.declare(&def.name, NameKind::Block);
-                self.blocks.entry(def.name.name.clone()).or_insert(def);
+                self.blocks.entry(def.name.name.to_string()).or_insert(def);
             }
         }
         self.check_recursion();
@@ -309,7 +309,7 @@ impl<'a> Elaborator<'a> {
 
     /// Enters a declared name into the one namespace; a duplicate is an error.
     fn declare(&mut self, id: &Ident, kind: NameKind) -> bool {
-        self.declare_name(&id.name, id.span, kind)
+        self.declare_name(id.name, id.span, kind)
     }
 
     fn declare_name(&mut self, name: &str, span: Span, kind: NameKind) -> bool {
@@ -341,7 +341,7 @@ impl<'a> Elaborator<'a> {
         let known: HashSet<&str> = statements
             .iter()
             .filter_map(|s| match &s.kind {
-                StmtKind::Let(n, _) => Some(n.name.as_str()),
+                StmtKind::Let(n, _) => Some(n.name),
                 _ => None,
             })
             .collect();
@@ -363,20 +363,20 @@ impl<'a> Elaborator<'a> {
             let StmtKind::Let(n, expr) = &stmt.kind else {
                 continue;
             };
-            let value = match overrides.iter().rev().find(|(o, _, _)| o == &n.name) {
+            let value = match overrides.iter().rev().find(|(o, _, _)| o == n.name) {
                 Some((_, over, text)) => self.eval_override(n, over, text),
                 None => self.eval(expr, &root),
             };
             if self.declare(n, NameKind::Let) {
                 self.lets.insert(
-                    n.name.clone(),
+                    n.name.to_string(),
                     LetBinding {
                         value,
                         span: n.span,
                         used: false,
                     },
                 );
-                self.let_order.push(n.name.clone());
+                self.let_order.push(n.name.to_string());
             }
         }
     }
@@ -635,7 +635,7 @@ impl<'a> Elaborator<'a> {
             return Some(q.value);
         }
         let note = match &e.kind {
-            ExprKind::Name(n) => self.lets.get(n).map(|b| {
+            ExprKind::Name(n) => self.lets.get(*n).map(|b| {
                 let line = line_col(self.source, b.span.start).0;
                 format!(
                     "`{n}` is defined on line {line} as {}",
@@ -691,11 +691,11 @@ impl<'a> Elaborator<'a> {
             self.node_connections[0] += 1;
             return NodeId::GND;
         }
-        if let Some(&n) = scope.pins.get(&id.name) {
+        if let Some(&n) = scope.pins.get(id.name) {
             self.node_connections[n.index()] += 1;
             return n;
         }
-        let qualified = qualify(&scope.prefix, &id.name);
+        let qualified = qualify(&scope.prefix, id.name);
         if let Some(&n) = self.node_index.get(qualified.as_ref()) {
             self.node_connections[n.index()] += 1;
             return n;
@@ -727,7 +727,7 @@ impl<'a> Elaborator<'a> {
     }
 
     fn add_part(&mut self, p: &PartStmt, span: Span, scope: &Scope) {
-        let name = qualify(&scope.prefix, &p.name.name).into_owned();
+        let name = qualify(&scope.prefix, p.name.name).into_owned();
         let nodes: Vec<NodeId> = p.nodes.iter().map(|n| self.node_id(n, scope)).collect();
         let from: Vec<NodeId> = p.from.iter().map(|n| self.node_id(n, scope)).collect();
         if nodes.len() != p.keyword.n_nodes()
@@ -791,7 +791,7 @@ impl<'a> Elaborator<'a> {
         self.parts.push(Part { name, kind, span });
     }
 
-    fn option<'p>(p: &'p PartStmt, key: &str) -> Option<&'p PartOption> {
+    fn option<'p, 's>(p: &'p PartStmt<'s>, key: &str) -> Option<&'p PartOption<'s>> {
         p.options.iter().map(|(o, _)| o).find(|o| match o {
             PartOption::Tol(..) => key == "tol",
             PartOption::Polar => key == "polar",
@@ -814,7 +814,7 @@ impl<'a> Elaborator<'a> {
         };
         let place = Place {
             what,
-            name: &p.name.name,
+            name: p.name.name,
         };
         let v = if positive {
             self.positive(e, scope, dim, &place)
@@ -881,7 +881,7 @@ impl<'a> Elaborator<'a> {
                         dim,
                         &Place {
                             what: "amplitude",
-                            name: &p.name.name,
+                            name: p.name.name,
                         },
                     )),
                     Some(PartValue::Fit { span, .. }) => {
@@ -1007,7 +1007,7 @@ impl<'a> Elaborator<'a> {
     ) -> (Option<f64>, Option<FitRange>) {
         let place = Place {
             what,
-            name: &p.name.name,
+            name: p.name.name,
         };
         match &p.value {
             Some(PartValue::Expr(e)) => (self.positive(e, scope, dim, &place), None),
@@ -1021,7 +1021,7 @@ impl<'a> Elaborator<'a> {
                             dim,
                             &Place {
                                 what: "lower end of the fit range",
-                                name: &p.name.name,
+                                name: p.name.name,
                             },
                         );
                         let hi_v = self.positive(
@@ -1030,7 +1030,7 @@ impl<'a> Elaborator<'a> {
                             dim,
                             &Place {
                                 what: "upper end of the fit range",
-                                name: &p.name.name,
+                                name: p.name.name,
                             },
                         );
                         let (Some(low), Some(high)) = (lo, hi_v) else {
@@ -1073,7 +1073,7 @@ impl<'a> Elaborator<'a> {
         let plain = Dim::Percent;
         let place = Place {
             what: "tolerance",
-            name: &p.name.name,
+            name: p.name.name,
         };
         let low = self.value_of(lo, scope, plain, &place).ok_or(())?;
         let (lower, upper, span) = match hi {
@@ -1113,7 +1113,7 @@ impl<'a> Elaborator<'a> {
         };
         let place = Place {
             what: "output swing",
-            name: &p.name.name,
+            name: p.name.name,
         };
         let low = self.value_of(lo, scope, Dim::Si(VOLT), &place);
         let high = self.value_of(hi, scope, Dim::Si(VOLT), &place);
@@ -1172,13 +1172,13 @@ impl<'a> Elaborator<'a> {
             let target = &u.block.name;
             if target == &path[0] {
                 let mut cycle = path.clone();
-                cycle.push(target.clone());
+                cycle.push(target.to_string());
                 return Some((cycle, u.block.span));
             }
-            if path.contains(target) || path.len() > MAX_USE_DEPTH {
+            if path.iter().any(|p| p == target) || path.len() > MAX_USE_DEPTH {
                 continue;
             }
-            path.push(target.clone());
+            path.push(target.to_string());
             if let Some(found) = self.find_cycle(target, path) {
                 return Some(found);
             }
@@ -1188,20 +1188,20 @@ impl<'a> Elaborator<'a> {
     }
 
     fn expand_use(&mut self, u: &UseStmt, scope: &Scope, depth: usize) {
-        let Some(&def) = self.blocks.get(&u.block.name) else {
+        let Some(&def) = self.blocks.get(u.block.name) else {
             let mut d = Diagnostic::error(
                 DiagnosticKind::UnknownName,
                 u.block.span,
                 format!("unknown block `{}`", u.block.name),
             )
             .with_expected("expected the name of a block defined in this file");
-            if let Some(close) = similar(&u.block.name, self.blocks.keys().map(String::as_str)) {
+            if let Some(close) = similar(u.block.name, self.blocks.keys().map(String::as_str)) {
                 d.help = Some(format!("did you mean `{close}`?"));
             }
             self.diags.push(d);
             return;
         };
-        if self.bad_blocks.contains(&u.block.name) || depth > MAX_USE_DEPTH {
+        if self.bad_blocks.contains(u.block.name) || depth > MAX_USE_DEPTH {
             return;
         }
         let instance = format!("{}{}", scope.prefix, u.name.name);
@@ -1237,7 +1237,7 @@ impl<'a> Elaborator<'a> {
             }
         };
         if u.nodes.len() != def.pins.len() {
-            let pins: Vec<&str> = def.pins.iter().map(|p| p.name.as_str()).collect();
+            let pins: Vec<&str> = def.pins.iter().map(|p| p.name).collect();
             self.error(
                 DiagnosticKind::PinCount,
                 u.nodes_span,
@@ -1265,7 +1265,12 @@ impl<'a> Elaborator<'a> {
             None => {
                 let inner = Scope {
                     params,
-                    pins: def.pins.iter().map(|p| p.name.clone()).zip(outer).collect(),
+                    pins: def
+                        .pins
+                        .iter()
+                        .map(|p| p.name.to_string())
+                        .zip(outer)
+                        .collect(),
                     prefix: format!("{instance}."),
                 };
                 self.expand_body(def, &inner, depth);
@@ -1288,8 +1293,9 @@ impl<'a> Elaborator<'a> {
             let output = if k == n {
                 outer[1]
             } else {
+                let junction_name = format!("j{k}");
                 let junction = Ident {
-                    name: format!("j{k}"),
+                    name: &junction_name,
                     span: def.name.span,
                 };
                 let scope = Scope {
@@ -1304,8 +1310,8 @@ impl<'a> Elaborator<'a> {
             let inner = Scope {
                 params: params.clone(),
                 pins: HashMap::from([
-                    (def.pins[0].name.clone(), input),
-                    (def.pins[1].name.clone(), output),
+                    (def.pins[0].name.to_string(), input),
+                    (def.pins[1].name.to_string(), output),
                 ]),
                 prefix: format!("{stage}."),
             };
@@ -1334,7 +1340,7 @@ impl<'a> Elaborator<'a> {
         let mut ok = true;
         for (name, e) in &u.overrides {
             if !def.params.iter().any(|(p, _)| p.name == name.name) {
-                let names: Vec<&str> = def.params.iter().map(|(p, _)| p.name.as_str()).collect();
+                let names: Vec<&str> = def.params.iter().map(|(p, _)| p.name).collect();
                 let mut d = Diagnostic::error(
                     DiagnosticKind::UnknownName,
                     name.span,
@@ -1345,22 +1351,22 @@ impl<'a> Elaborator<'a> {
                 } else {
                     format!("expected one of {}", names.join(", "))
                 });
-                if let Some(close) = similar(&name.name, names.iter().copied()) {
+                if let Some(close) = similar(name.name, names.iter().copied()) {
                     d.help = Some(format!("did you mean `{close}`?"));
                 }
                 self.diags.push(d);
                 ok = false;
             } else if let Some(q) = self.eval(e, scope) {
-                params.insert(name.name.clone(), q);
+                params.insert(name.name.to_string(), q);
             } else {
                 ok = false;
             }
         }
         for (name, default) in &def.params {
-            if !params.contains_key(&name.name) {
+            if !params.contains_key(name.name) {
                 match self.eval(default, &Scope::default()) {
                     Some(q) => {
-                        params.insert(name.name.clone(), q);
+                        params.insert(name.name.to_string(), q);
                     }
                     None => ok = false,
                 }
@@ -1413,7 +1419,7 @@ impl<'a> Elaborator<'a> {
     }
 
     fn resolve_drive(&mut self, n: &Ident, circuit: &Circuit) -> Option<PartId> {
-        let Some(&id) = self.part_index.get(&n.name) else {
+        let Some(&id) = self.part_index.get(n.name) else {
             let names: Vec<String> = self.part_index.keys().cloned().collect();
             self.unknown(
                 n,
@@ -1441,7 +1447,7 @@ impl<'a> Elaborator<'a> {
             format!("unknown name `{}`", n.name),
         )
         .with_expected(format!("expected {what}"));
-        if let Some(close) = similar(&n.name, candidates.iter().copied()) {
+        if let Some(close) = similar(n.name, candidates.iter().copied()) {
             d.help = Some(format!("did you mean `{close}`?"));
         }
         self.diags.push(d);
@@ -1565,7 +1571,7 @@ impl<'a> Elaborator<'a> {
     }
 
     fn node_ref(&mut self, n: &Ident) -> Option<NodeId> {
-        if let Some(&id) = self.node_index.get(&n.name) {
+        if let Some(&id) = self.node_index.get(n.name) {
             return Some(id);
         }
         let candidates: Vec<&str> = self.nodes.iter().map(String::as_str).collect();
@@ -1579,10 +1585,10 @@ impl<'a> Elaborator<'a> {
     }
 
     fn part_ref(&mut self, n: &Ident) -> Option<PartId> {
-        if let Some(&id) = self.part_index.get(&n.name) {
+        if let Some(&id) = self.part_index.get(n.name) {
             return Some(id);
         }
-        if self.failed_parts.contains(&n.name) {
+        if self.failed_parts.contains(n.name) {
             return None;
         }
         let names: Vec<String> = self.part_index.keys().cloned().collect();
@@ -1634,7 +1640,7 @@ impl<'a> Elaborator<'a> {
             None => None,
         };
         Some(Probe {
-            name: p.name.name.clone(),
+            name: p.name.name.to_string(),
             kind,
             reference,
             span,
@@ -1648,10 +1654,10 @@ impl<'a> Elaborator<'a> {
                 if let Some(i) = circuit.probes.iter().position(|p| p.name == n.name) {
                     return Some(Target::Probe(ProbeId(i as u32)));
                 }
-                if let Some(&id) = self.node_index.get(&n.name) {
+                if let Some(&id) = self.node_index.get(n.name) {
                     return Some(Target::Node(id));
                 }
-                if allow_part && let Some(&id) = self.part_index.get(&n.name) {
+                if allow_part && let Some(&id) = self.part_index.get(n.name) {
                     return Some(Target::Part(id));
                 }
                 let mut candidates: Vec<&str> =
@@ -1683,14 +1689,14 @@ impl<'a> Elaborator<'a> {
         circuit: &Circuit,
         scope: &Scope,
     ) -> Option<Expectation> {
-        let Some((template, n_freqs, unit)) = metric_kind(&x.metric.name) else {
+        let Some((template, n_freqs, unit)) = metric_kind(x.metric.name) else {
             let mut d = Diagnostic::error(
                 DiagnosticKind::UnknownName,
                 x.metric.span,
                 format!("unknown metric `{}`", x.metric.name),
             )
             .with_expected("expected a metric such as `cutoff`, `gain` or `bias`");
-            if let Some(close) = similar(&x.metric.name, METRICS.iter().copied()) {
+            if let Some(close) = similar(x.metric.name, METRICS.iter().copied()) {
                 d.help = Some(format!("did you mean `{close}`?"));
             }
             self.diags.push(d);

@@ -287,11 +287,13 @@ pub(crate) fn prefix_exponent(c: char) -> Option<i64> {
 /// A number literal as written: `digits × 10^exponent`, an optional SI prefix and an
 /// optional unit. Kept apart so a range's trailing unit can be given to a bare lower end.
 #[derive(Debug, Clone, PartialEq)]
-pub(crate) struct Literal {
+pub(crate) struct Literal<'s> {
     /// Sign (`-`, or the typographic minus).
     pub negative: bool,
-    /// All mantissa digits, without the decimal point.
-    pub digits: String,
+    /// The mantissa's integer digits.
+    pub int: &'s str,
+    /// The mantissa's fraction digits (after the point or the value-code letter).
+    pub frac: &'s str,
     /// The decimal exponent that places the point (from the fraction and `e…`).
     pub exponent: i64,
     /// The SI prefix exponent, if a prefix was written (or implied by a value code).
@@ -311,7 +313,7 @@ pub(crate) enum LiteralError {
     Underflow,
 }
 
-impl Literal {
+impl Literal<'_> {
     /// The value in SI units (a percentage as a fraction, dB/oct as dB/dec), rounded
     /// once from the decimal text, so `4k7`, `4.7k` and `4700` are the same number.
     pub(crate) fn value(&self) -> Result<f64, LiteralError> {
@@ -335,14 +337,14 @@ impl Literal {
             exponent = exponent.saturating_sub(2);
         }
         let sign = if self.negative { "-" } else { "" };
-        let mut value = parse_decimal(sign, &self.digits, exponent)?;
+        let mut value = parse_decimal(sign, self.int, self.frac, exponent)?;
         if self.unit == Some(UnitSym::DbPerOctave) {
             value *= std::f64::consts::LOG2_10;
         }
         if !value.is_finite() {
             return Err(LiteralError::Overflow);
         }
-        if value == 0.0 && self.digits.bytes().any(|b| b != b'0') {
+        if value == 0.0 && self.int.bytes().chain(self.frac.bytes()).any(|b| b != b'0') {
             return Err(LiteralError::Underflow);
         }
         Ok(value)
@@ -356,17 +358,17 @@ impl Literal {
 
 /// Reads `sign digits e exponent` as a correctly rounded float, without allocating
 /// for the usual short literals.
-fn parse_decimal(sign: &str, digits: &str, exponent: i64) -> Result<f64, LiteralError> {
+fn parse_decimal(sign: &str, int: &str, frac: &str, exponent: i64) -> Result<f64, LiteralError> {
     use std::io::Write as _;
     let mut buffer = [0u8; 64];
     let mut cursor = std::io::Cursor::new(&mut buffer[..]);
-    if write!(cursor, "{sign}{digits}e{exponent}").is_ok() {
+    if write!(cursor, "{sign}{int}{frac}e{exponent}").is_ok() {
         let len = cursor.position() as usize;
         if let Ok(text) = std::str::from_utf8(&buffer[..len]) {
             return text.parse().map_err(|_| LiteralError::Overflow);
         }
     }
-    format!("{sign}{digits}e{exponent}")
+    format!("{sign}{int}{frac}e{exponent}")
         .parse()
         .map_err(|_| LiteralError::Overflow)
 }
