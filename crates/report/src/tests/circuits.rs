@@ -557,3 +557,75 @@ fn probe_reference_measures_a_peaking_low_pass_from_its_flat_region() {
             .any(|w| matches!(w, ReportWarning::PeaksAboveFlat { .. }))
     );
 }
+
+/// The reference case `lc_chebyshev_0p1db_n5`: a Chebyshev 0.1 dB, n = 5 ladder, doubly
+/// terminated in 50 Ω, scaled to f0 = 10 kHz (g-values from the closed form of Matthaei,
+/// Young & Jones). Its gain is `1/(1 + ε²·T5(f/f0)²)` relative to the ripple peaks, with
+/// `T5(cos θ) = cos 5θ` (Chebyshev polynomial, textbook): the ripple minima, where
+/// `T5² = 1`, lie at `f0·cos(kπ/5)` = 3.09 kHz, 8.09 kHz and 10 kHz, all exactly 0.1 dB
+/// below the peaks, at `f0·cos(π/10)` among others.
+const CHEBYSHEV_0P1DB_N5: &str = r"
+let r0 = 50 Ω
+let f0 = 10 kHz
+let w0 = 2 * pi * f0
+let g1 = 1.1468130672714618
+let g2 = 1.3712125512670543
+let g3 = 1.9750031575003777
+let g4 = 1.3712125512670543
+let g5 = 1.1468130672714618
+vsrc      VS (p1, gnd) 1 V rs 50 Ω
+capacitor C1 (p1, gnd) (g1 / (r0 * w0))
+inductor  L2 (p1, p2) (g2 * r0 / w0)
+capacitor C3 (p2, gnd) (g3 / (r0 * w0))
+inductor  L4 (p2, out) (g4 * r0 / w0)
+capacitor C5 (out, gnd) (g5 / (r0 * w0))
+resistor  RL (out, gnd) r0
+sweep 10 Hz to 10 MHz per_decade 20
+probe out ref 9510.565162951536 Hz
+";
+
+fn chebyshev_cutoff(level_db: f64, extra_hz: &[f64]) -> Result<f64, MetricError> {
+    let circuit = circuit_from(CHEBYSHEV_0P1DB_N5);
+    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let mut freqs = sweep_frequencies(&circuit);
+    freqs.extend_from_slice(extra_hz);
+    let mut m = metric(
+        &circuit,
+        MetricKind::Cutoff,
+        "out",
+        Some(9_510.565_162_951_536),
+    );
+    m.options.level_db = Some(level_db);
+    measure(&mut analyzer, &m, &freqs)
+}
+
+#[test]
+fn equiripple_minima_touching_the_level_are_not_crossings() {
+    // At the ripple depth the level only touches the two inner minima: the one crossing
+    // is the ripple edge f0 (Chebyshev type I, textbook: |T5(1)| = 1, rising beyond).
+    let f = chebyshev_cutoff(-0.1, &[]).unwrap();
+    assert!(rel(f, 10e3) < 1e-9, "{f}");
+    // The same with sweep points on the minima, where a sample may fall a rounding
+    // below the level and give two sign changes in a row.
+    let minima = [10e3 * (PI / 5.0).cos(), 10e3 * (2.0 * PI / 5.0).cos()];
+    let f = chebyshev_cutoff(-0.1, &minima).unwrap();
+    assert!(rel(f, 10e3) < 1e-9, "{f}");
+    // A level a little above the ripple depth is crossed for real in both minima and at
+    // the edge: |T5(cos θ)| = t with t² = (10^0.009 − 1)/ε², ε² = 10^0.01 − 1, i.e.
+    // θ = (kπ ± φ)/5 with φ = acos t, around the minima k = 1, 2 and the edge k = 0.
+    let e = chebyshev_cutoff(-0.09, &[]).unwrap_err();
+    let MetricError::ManyCrossings { freqs_hz, .. } = e else {
+        panic!("{e}")
+    };
+    let eps2 = 10f64.powf(0.01) - 1.0;
+    let phi = ((10f64.powf(0.009) - 1.0) / eps2).sqrt().acos();
+    let mut expected: Vec<f64> = [2.0 * PI + phi, 2.0 * PI - phi, PI + phi, PI - phi, phi]
+        .iter()
+        .map(|x| 10e3 * (x / 5.0).cos())
+        .collect();
+    expected.sort_by(f64::total_cmp);
+    assert_eq!(freqs_hz.len(), 5, "{freqs_hz:?}");
+    for (got, want) in freqs_hz.iter().zip(&expected) {
+        assert!(rel(*got, *want) < 1e-8, "{got} vs {want}");
+    }
+}
