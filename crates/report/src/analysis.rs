@@ -7,7 +7,7 @@
 //! a root of `Re(H′/H)` (the slope of the gain) where the source gives a derivative, by
 //! Brent's minimiser otherwise. The definitions are written out in `docs/metrics.md`.
 
-use crate::format::{DEFAULT_LEVEL_DB, fmt_db, fmt_hz};
+use crate::format::{DEFAULT_LEVEL_DB, fmt_db, fmt_hz, fmt_num};
 use crate::numeric::{self, MIN_TOL, ROOT_TOL, brent_min, brent_root, nearest_branch};
 use crate::{MetricError, ReportError, ResponseSource};
 use num_complex::Complex64;
@@ -188,8 +188,8 @@ impl fmt::Display for ReportWarning {
                 slope_db_per_decade,
             } => write!(
                 f,
-                "the gain still changes by {:.2} dB/decade at the sweep {end} ({}): the passband may extend beyond the sweep",
-                slope_db_per_decade.abs(),
+                "the gain still changes by {} dB/decade at the sweep {end} ({}): the passband may extend beyond the sweep",
+                fmt_num(slope_db_per_decade.abs()),
                 fmt_hz(freq_hz)
             ),
             ReportWarning::ReferenceBeyondSweep { freq_hz, gain_db } => write!(

@@ -71,7 +71,7 @@ fn high_pass_from_text_meets_its_expectations() {
     let fc = 1.0 / (2.0 * PI * 10e3 * 100e-9);
     let cutoff = *verdicts[0].measured.as_ref().unwrap();
     assert!(rel(cutoff, fc) < 1e-5);
-    assert_eq!(verdicts[0].bound, "= 159.2 Hz ± 0.1 %");
+    assert_eq!(verdicts[0].bound, "= 159.15 Hz ± 0.1 %");
     // |Zin| = |R + 1/(jωC)| at 1 kHz (series RC, textbook).
     let z = Complex64::new(10e3, -1.0 / (2.0 * PI * 1e3 * 100e-9)).norm();
     assert!(rel(*verdicts[4].measured.as_ref().unwrap(), z) < 1e-12);
@@ -120,7 +120,7 @@ expect bias(out) within -1 .. 1 V
     assert!(v.margin.unwrap() < -59.0 && v.margin.unwrap() > -60.0);
     assert_eq!(
         v.to_string(),
-        "FAIL: cutoff(out) within 10 Hz .. 100 Hz (measured 159.2 Hz, bound within 10 Hz .. 100 Hz)"
+        "FAIL: cutoff(out) within 10 Hz .. 100 Hz (measured 159.154939 Hz, bound within 10 Hz .. 100 Hz)"
     );
     assert_eq!(
         verdicts[1].to_string(),
@@ -628,4 +628,41 @@ fn equiripple_minima_touching_the_level_are_not_crossings() {
     for (got, want) in freqs_hz.iter().zip(&expected) {
         assert!(rel(*got, *want) < 1e-8, "{got} vs {want}");
     }
+}
+
+/// A bound prints as written: `20·log10(1/√2)` = −3.0103 dB at fc = 1/(2πRC) of a
+/// first-order low-pass (textbook), R = 1 kΩ, C = 100 nF, fc = 1.5915494309189537 kHz;
+/// the reference at 1 Hz lies 1.7e-6 dB under DC, moving the cutoff by 4e-7 relative.
+#[test]
+fn bounds_print_as_written() {
+    let text = "vsrc V1 (in, gnd) 1 V\nresistor R1 (in, out) 1k\ncapacitor C1 (out, gnd) 100 nF\n\
+                sweep 1 Hz to 1 MHz per_decade 20\nprobe out\n\
+                expect gain(out, 1.5915494309189537 kHz) = -3.0103 dB +- 0.001 dB\n\
+                expect phase(out, 1.5915494309189537 kHz) = -45 deg +- 0.0001 deg\n\
+                expect cutoff(out) = 1.5915494309189537 kHz +- 0.001 %\n\
+                expect cutoff(out) within 1591.5 Hz .. 1591.6 Hz\n";
+    let circuit = circuit_from(text);
+    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let freqs = sweep_frequencies(&circuit);
+    let verdicts = check(&mut analyzer, &freqs);
+    let bounds: Vec<&str> = verdicts.iter().map(|v| v.bound.as_str()).collect();
+    assert_eq!(
+        bounds,
+        [
+            "= −3.0103 dB ± 0.001 dB",
+            "= −45 deg ± 0.0001 deg",
+            "= 1.59154943 kHz ± 0.001 %",
+            "within 1.5915 kHz .. 1.5916 kHz",
+        ]
+    );
+    for v in &verdicts {
+        assert!(v.pass, "{v}");
+    }
+    assert!(
+        verdicts[0]
+            .to_string()
+            .contains("(measured −3.01029996 dB, bound = −3.0103 dB ± 0.001 dB)"),
+        "{}",
+        verdicts[0]
+    );
 }
