@@ -666,3 +666,50 @@ fn bounds_print_as_written() {
         verdicts[0]
     );
 }
+
+/// `check` solves each probe once per frequency within a call; its verdicts are exactly
+/// those of measuring every expectation on its own (bit for bit), here on the RC
+/// high-pass (two probes, bias) and on the Chebyshev ladder (the cutoff family at two
+/// levels, spot metrics, and a repeated expectation).
+#[test]
+fn check_reuses_solves_without_changing_results() {
+    let chebyshev = format!(
+        "{CHEBYSHEV_0P1DB_N5}\
+         expect cutoff(out) = 11347.180020503873 Hz ± 1e-5 %\n\
+         expect cutoff(out, level -0.1 dB) = 10 kHz ± 1e-7 %\n\
+         expect cutoff(out, level -0.09 dB) > 1 Hz\n\
+         expect gain(out, 10 kHz) = -6.120599913279625 dB ± 1e-6 dB\n\
+         expect phase(out, 5 kHz) < 0 deg\n\
+         expect group_delay(out, 5 kHz) > 0 s\n\
+         expect passband_gain(out) > -7 dB\n\
+         expect cutoff(out) = 11347.180020503873 Hz ± 1e-5 %\n"
+    );
+    for text in [RC_HIGH_PASS, chebyshev.as_str()] {
+        let circuit = circuit_from(text);
+        let mut analyzer = Analyzer::new(&circuit).unwrap();
+        let freqs = sweep_frequencies(&circuit);
+        let verdicts = check(&mut analyzer, &freqs);
+        let one_by_one: Vec<Verdict> = circuit
+            .expectations
+            .iter()
+            .map(|e| {
+                let unit = measured_unit(&circuit, &e.metric);
+                let (measured, warnings) = measure_with_warnings(&mut analyzer, &e.metric, &freqs);
+                Verdict {
+                    warnings,
+                    ..judge(e, measured, unit)
+                }
+            })
+            .collect();
+        assert_eq!(verdicts.len(), circuit.expectations.len());
+        assert_eq!(verdicts, one_by_one);
+    }
+    // The Chebyshev expectations all hold except the one with five crossings.
+    let circuit = circuit_from(&chebyshev);
+    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let verdicts = check(&mut analyzer, &sweep_frequencies(&circuit));
+    let failing: Vec<usize> = (0..verdicts.len()).filter(|&i| !verdicts[i].pass).collect();
+    assert_eq!(failing, [2], "{verdicts:?}");
+    assert_eq!(verdicts[0].measured, verdicts[7].measured);
+    assert_eq!(verdicts[0].margin, verdicts[7].margin);
+}
