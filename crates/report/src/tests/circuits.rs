@@ -560,10 +560,11 @@ fn probe_reference_measures_a_peaking_low_pass_from_its_flat_region() {
 
 /// The reference case `lc_chebyshev_0p1db_n5`: a Chebyshev 0.1 dB, n = 5 ladder, doubly
 /// terminated in 50 Ω, scaled to f0 = 10 kHz (g-values from the closed form of Matthaei,
-/// Young & Jones). Its gain is `1/(1 + ε²·T5(f/f0)²)` relative to the ripple peaks, with
-/// `T5(cos θ) = cos 5θ` (Chebyshev polynomial, textbook): the ripple minima, where
-/// `T5² = 1`, lie at `f0·cos(kπ/5)` = 3.09 kHz, 8.09 kHz and 10 kHz, all exactly 0.1 dB
-/// below the peaks, at `f0·cos(π/10)` among others.
+/// Young & Jones). Its power gain is `|H|² = 1/(1 + ε²·T5(f/f0)²)` relative to the ripple
+/// peaks, `ε² = 10^(0.1/10) − 1`, with `T5(cos θ) = cos 5θ` (Chebyshev polynomial,
+/// textbook): the ripple minima, where `T5² = 1`, lie at `f0·cos(kπ/5)` = 3.09 kHz,
+/// 8.09 kHz and 10 kHz, all exactly 0.1 dB below the peaks (`T5 = 0`, e.g. at
+/// `f0·cos(π/10)`, the probe's `ref`).
 const CHEBYSHEV_0P1DB_N5: &str = r"
 let r0 = 50 Ω
 let f0 = 10 kHz
