@@ -7,7 +7,7 @@
 //! a root of `Re(H′/H)` (the slope of the gain) where the source gives a derivative, by
 //! Brent's minimiser otherwise. The definitions are written out in `docs/metrics.md`.
 
-use crate::format::{DEFAULT_LEVEL_DB, fmt_db, fmt_hz};
+use crate::format::{DEFAULT_LEVEL_DB, fmt_db, fmt_hz, fmt_num};
 use crate::numeric::{self, MIN_TOL, ROOT_TOL, brent_min, brent_root, nearest_branch};
 use crate::{MetricError, ReportError, ResponseSource};
 use num_complex::Complex64;
@@ -28,6 +28,11 @@ pub const FLAT_END_DB_PER_DECADE: f64 = 1.0;
 pub const LOOK_BEYOND_DECADES: i32 = 6;
 /// A stopband slope within this of `n × 20 dB/decade` gives the roll-off order `n`.
 pub const ORDER_TOLERANCE_DB_PER_DECADE: f64 = 1.0;
+/// A local extremum of the gain that reaches the level by no more than this (dB) only
+/// touches it: an equiripple minimum designed to lie exactly at the level, missed by
+/// rounding. Such a touch is no crossing. About 1e7 times the solver's rounding in dB,
+/// and far below any deviation a measurement could show.
+pub const TOUCH_TOLERANCE_DB: f64 = 1e-6;
 
 /// The shape of a response, found from where its gain lies above the passband level.
 ///
@@ -183,8 +188,8 @@ impl fmt::Display for ReportWarning {
                 slope_db_per_decade,
             } => write!(
                 f,
-                "the gain still changes by {:.2} dB/decade at the sweep {end} ({}): the passband may extend beyond the sweep",
-                slope_db_per_decade.abs(),
+                "the gain still changes by {} dB/decade at the sweep {end} ({}): the passband may extend beyond the sweep",
+                fmt_num(slope_db_per_decade.abs()),
                 fmt_hz(freq_hz)
             ),
             ReportWarning::ReferenceBeyondSweep { freq_hz, gain_db } => write!(
@@ -653,18 +658,36 @@ impl<'a> Analysis<'a> {
 
     /// Every crossing of `threshold` dB: sign changes between samples refined by Brent's
     /// method, plus pairs around a dip (or peak) between samples that reaches across.
+    /// A dip or peak that reaches across by no more than [`TOUCH_TOLERANCE_DB`] only
+    /// touches the level and gives no crossing.
     fn crossings(&mut self, threshold: f64) -> Result<Vec<Crossing>, ReportError> {
         let n = self.freqs.len();
-        let mut found = Vec::new();
+        // Sign changes, with the interval each lies in.
+        let mut changes: Vec<(usize, Crossing)> = Vec::new();
         for i in 0..n - 1 {
             let (a, b) = (self.gain[i] - threshold, self.gain[i + 1] - threshold);
             if (a >= 0.0) != (b >= 0.0) {
                 let f = self.root((self.ln_f[i], a), (self.ln_f[i + 1], b), threshold)?;
-                found.push(Crossing {
-                    freq_hz: f,
-                    rising: a < 0.0,
-                });
+                changes.push((
+                    i,
+                    Crossing {
+                        freq_hz: f,
+                        rising: a < 0.0,
+                    },
+                ));
             }
+        }
+        let mut found = Vec::new();
+        let mut k = 0;
+        while k < changes.len() {
+            if let Some(&(j, _)) = changes.get(k + 1)
+                && self.only_touches(changes[k].0 + 1..=j, threshold, changes[k].1.rising)?
+            {
+                k += 2;
+                continue;
+            }
+            found.push(changes[k].1);
+            k += 1;
         }
         for i in 1..n.saturating_sub(1) {
             let (g0, g1, g2) = (self.gain[i - 1], self.gain[i], self.gain[i + 1]);
@@ -674,7 +697,12 @@ impl<'a> Analysis<'a> {
                 continue;
             }
             let (f_m, g_m) = self.refine_extremum(i, bump)?;
-            if (g_m >= threshold) == bump {
+            let beyond = if bump {
+                g_m - threshold
+            } else {
+                threshold - g_m
+            };
+            if (g_m >= threshold) == bump && beyond > TOUCH_TOLERANCE_DB {
                 let x_m = f_m.ln();
                 let m = g_m - threshold;
                 let left = self.root((self.ln_f[i - 1], g0 - threshold), (x_m, m), threshold)?;
@@ -691,6 +719,33 @@ impl<'a> Analysis<'a> {
         }
         found.sort_by(|a, b| a.freq_hz.total_cmp(&b.freq_hz));
         Ok(found)
+    }
+
+    /// Whether the samples `between` two consecutive sign changes, which lie beyond the
+    /// level (below it after a falling change, above after a rising one), reach beyond it
+    /// by no more than [`TOUCH_TOLERANCE_DB`], the extremum among them refined.
+    fn only_touches(
+        &mut self,
+        between: std::ops::RangeInclusive<usize>,
+        threshold: f64,
+        rising: bool,
+    ) -> Result<bool, ReportError> {
+        let n = self.freqs.len();
+        let beyond = |g: f64| if rising { g - threshold } else { threshold - g };
+        let mut extreme: Option<usize> = None;
+        for i in between {
+            if beyond(self.gain[i]) > TOUCH_TOLERANCE_DB {
+                return Ok(false);
+            }
+            if extreme.is_none_or(|e| beyond(self.gain[i]) > beyond(self.gain[e])) {
+                extreme = Some(i);
+            }
+        }
+        let Some(i) = extreme.filter(|&i| i > 0 && i + 1 < n) else {
+            return Ok(false);
+        };
+        let (_, g) = self.refine_extremum(i, rising)?;
+        Ok(beyond(g) <= TOUCH_TOLERANCE_DB)
     }
 
     fn root(&mut self, a: (f64, f64), b: (f64, f64), threshold: f64) -> Result<f64, ReportError> {
@@ -920,10 +975,10 @@ impl<'a> Analysis<'a> {
         for i in 1..n.saturating_sub(1) {
             if self.gain[i] < self.gain[i - 1]
                 && self.gain[i] <= self.gain[i + 1]
-                && self.gain[i] >= threshold
+                && self.gain[i] >= threshold - TOUCH_TOLERANCE_DB
             {
                 let (_, g) = self.refine_extremum(i, false)?;
-                if g >= threshold {
+                if g >= threshold - TOUCH_TOLERANCE_DB {
                     note(g);
                 }
             }

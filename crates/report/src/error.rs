@@ -5,7 +5,7 @@
 //! reason a metric failed, and their `Display` is the reason a user reads.
 
 use crate::Shape;
-use crate::format::{fmt_db, fmt_hz, fmt_level};
+use crate::format::{fmt_hz, fmt_level};
 use rolloff_netlist::Unit;
 
 /// Why a response source could not give a value.
@@ -168,7 +168,7 @@ pub enum MetricError {
         "no notch: the gain has no minimum inside {} .. {} at least {} below the passband",
         fmt_hz(*low_hz),
         fmt_hz(*high_hz),
-        fmt_db(-*level_db)
+        fmt_level(*level_db).replacen('−', "", 1)
     )]
     NoNotch {
         /// Sweep start in Hz.

@@ -184,11 +184,7 @@ fn bound_text(comparison: Comparison, unit: Unit) -> String {
         Comparison::Equal { value, deviation } => match deviation {
             Deviation::Absolute(d) => format!("= {} ± {}", v(value), v(d)),
             Deviation::Relative(r) => {
-                format!(
-                    "= {} ± {} %",
-                    v(value),
-                    crate::format::fmt_sig(r * 100.0, 4)
-                )
+                format!("= {} ± {} %", v(value), crate::format::fmt_num(r * 100.0))
             }
         },
         Comparison::Within { low, high } => format!("within {} .. {}", v(low), v(high)),

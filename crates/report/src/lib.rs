@@ -38,8 +38,8 @@ mod summary;
 pub use analysis::{
     Analysis, Crossing, Extremum, FLAT_END_DB_PER_DECADE, LOOK_BEYOND_DECADES,
     ORDER_TOLERANCE_DB_PER_DECADE, PEAKING_WARN_DB, Passband, Reference, ReferenceOrigin,
-    ReportWarning, SETTLED_DB_PER_DECADE, Shape, Side, Slope, StopbandSlope, SweepEnd, order_of,
-    uses_passband,
+    ReportWarning, SETTLED_DB_PER_DECADE, Shape, Side, Slope, StopbandSlope, SweepEnd,
+    TOUCH_TOLERANCE_DB, order_of, uses_passband,
 };
 pub use error::{MetricError, ReportError};
 pub use expect::{Verdict, judge, metric_name, metric_unit};

@@ -8,7 +8,7 @@
 //! hashes the file it read).
 
 use crate::analysis::Analysis;
-use crate::format::{fmt_hz, fmt_value};
+use crate::format::{fmt_hz, fmt_num, fmt_value};
 use crate::numeric::circular_difference;
 use crate::{ReportError, ResponseSource, SampledResponse, analyze};
 use rolloff_netlist::Unit;
@@ -307,11 +307,11 @@ impl std::fmt::Display for Finding {
         match self.deviation {
             Some(d) if self.relative => write!(
                 f,
-                " ({:.3} % off, limit {:.3} %)",
-                d * 100.0,
-                self.limit * 100.0
+                " ({} % off, limit {} %)",
+                fmt_num(d * 100.0),
+                fmt_num(self.limit * 100.0)
             ),
-            Some(d) => write!(f, " (off by {d:.4}, limit {})", self.limit),
+            Some(d) => write!(f, " (off by {}, limit {})", fmt_num(d), fmt_num(self.limit)),
             None => Ok(()),
         }
     }

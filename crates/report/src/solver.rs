@@ -11,6 +11,7 @@ use crate::{
 use num_complex::Complex64;
 use rolloff_mna::{Analyzer, DenseLu, LinearSolver, MnaError};
 use rolloff_netlist::{Circuit, Metric, MetricKind, MetricOptions, ProbeKind, Target, Unit};
+use std::collections::HashMap;
 
 /// A probe of a circuit as a [`ResponseSource`], evaluated by the solver: the transfer
 /// from the drive (or the impedance, for `zin`/`zout`), with its exact ω-derivative.
@@ -241,19 +242,97 @@ pub fn bias<S: LinearSolver>(
 
 /// Evaluates every `expect` of the analyzer's circuit over `freqs`, in source order.
 /// A metric that cannot be measured gives a failing verdict carrying the reason.
+///
+/// Within one call the response of each probe is solved once per frequency: expectations
+/// on the same probe reuse the values (and derivatives) already solved, which are the
+/// same numbers a fresh solve gives.
 pub fn check<S: LinearSolver>(analyzer: &mut Analyzer<S>, freqs: &[f64]) -> Vec<Verdict> {
     let expectations = analyzer.circuit().expectations.clone();
+    let mut memo = Vec::new();
     expectations
         .iter()
         .map(|e| {
             let unit = measured_unit(analyzer.circuit(), &e.metric);
-            let (measured, warnings) = measure_with_warnings(analyzer, &e.metric, freqs);
+            let (measured, warnings) = measure_memoised(analyzer, &e.metric, freqs, &mut memo);
             Verdict {
                 warnings,
                 ..judge(e, measured, unit)
             }
         })
         .collect()
+}
+
+/// Solved values of one probe, by the bits of the frequency.
+#[derive(Default)]
+struct ProbeMemo {
+    values: HashMap<u64, Complex64>,
+    derivatives: HashMap<u64, (Complex64, Complex64)>,
+}
+
+/// A probe source that answers a frequency it has solved before from the memo.
+struct Memoised<'m, 'a, S: LinearSolver> {
+    source: ProbeSource<'a, S>,
+    memo: &'m mut ProbeMemo,
+}
+
+impl<S: LinearSolver> ResponseSource for Memoised<'_, '_, S> {
+    fn eval(&mut self, f_hz: f64) -> Result<Complex64, ReportError> {
+        if let Some(h) = self.memo.values.get(&f_hz.to_bits()) {
+            return Ok(*h);
+        }
+        let h = self.source.eval(f_hz)?;
+        self.memo.values.insert(f_hz.to_bits(), h);
+        Ok(h)
+    }
+
+    fn eval_with_derivative(&mut self, f_hz: f64) -> Result<(Complex64, Complex64), ReportError> {
+        if let Some(hd) = self.memo.derivatives.get(&f_hz.to_bits()) {
+            return Ok(*hd);
+        }
+        let hd = self.source.eval_with_derivative(f_hz)?;
+        self.memo.derivatives.insert(f_hz.to_bits(), hd);
+        Ok(hd)
+    }
+
+    fn range(&self) -> Option<(f64, f64)> {
+        self.source.range()
+    }
+}
+
+/// As [`measure_with_warnings`], solving through the memo of the metric's probe.
+fn measure_memoised<S: LinearSolver>(
+    analyzer: &mut Analyzer<S>,
+    metric: &Metric,
+    freqs: &[f64],
+    memo: &mut Vec<(ProbeKind, ProbeMemo)>,
+) -> (Result<f64, MetricError>, Vec<ReportWarning>) {
+    if metric.kind == MetricKind::Bias {
+        return (bias(analyzer, metric.target), Vec::new());
+    }
+    let (source, options) = match ac_source(analyzer, metric) {
+        Ok(found) => found,
+        Err(e) => return (Err(e), Vec::new()),
+    };
+    let index = if let Some(i) = memo.iter().position(|(p, _)| p == source.probe()) {
+        i
+    } else {
+        memo.push((source.probe().clone(), ProbeMemo::default()));
+        memo.len() - 1
+    };
+    let mut source = Memoised {
+        source,
+        memo: &mut memo[index].1,
+    };
+    if !uses_passband(metric.kind) {
+        return (
+            measure_response(&mut source, freqs, metric.kind, &options),
+            Vec::new(),
+        );
+    }
+    match Analysis::new(&mut source, freqs) {
+        Ok(mut analysis) => analysis.metric_with_warnings(metric.kind, &options),
+        Err(e) => (Err(e.into()), Vec::new()),
+    }
 }
 
 /// The summary of one declared probe (by index) over `freqs`, with the probe's `ref`.

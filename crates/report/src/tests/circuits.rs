@@ -71,7 +71,7 @@ fn high_pass_from_text_meets_its_expectations() {
     let fc = 1.0 / (2.0 * PI * 10e3 * 100e-9);
     let cutoff = *verdicts[0].measured.as_ref().unwrap();
     assert!(rel(cutoff, fc) < 1e-5);
-    assert_eq!(verdicts[0].bound, "= 159.2 Hz ± 0.1 %");
+    assert_eq!(verdicts[0].bound, "= 159.15 Hz ± 0.1 %");
     // |Zin| = |R + 1/(jωC)| at 1 kHz (series RC, textbook).
     let z = Complex64::new(10e3, -1.0 / (2.0 * PI * 1e3 * 100e-9)).norm();
     assert!(rel(*verdicts[4].measured.as_ref().unwrap(), z) < 1e-12);
@@ -120,7 +120,7 @@ expect bias(out) within -1 .. 1 V
     assert!(v.margin.unwrap() < -59.0 && v.margin.unwrap() > -60.0);
     assert_eq!(
         v.to_string(),
-        "FAIL: cutoff(out) within 10 Hz .. 100 Hz (measured 159.2 Hz, bound within 10 Hz .. 100 Hz)"
+        "FAIL: cutoff(out) within 10 Hz .. 100 Hz (measured 159.154939 Hz, bound within 10 Hz .. 100 Hz)"
     );
     assert_eq!(
         verdicts[1].to_string(),
@@ -556,4 +556,161 @@ fn probe_reference_measures_a_peaking_low_pass_from_its_flat_region() {
             .iter()
             .any(|w| matches!(w, ReportWarning::PeaksAboveFlat { .. }))
     );
+}
+
+/// The reference case `lc_chebyshev_0p1db_n5`: a Chebyshev 0.1 dB, n = 5 ladder, doubly
+/// terminated in 50 Ω, scaled to f0 = 10 kHz (g-values from the closed form of Matthaei,
+/// Young & Jones). Its power gain is `|H|² = 1/(1 + ε²·T5(f/f0)²)` relative to the ripple
+/// peaks, `ε² = 10^(0.1/10) − 1`, with `T5(cos θ) = cos 5θ` (Chebyshev polynomial,
+/// textbook): the ripple minima, where `T5² = 1`, lie at `f0·cos(kπ/5)` = 3.09 kHz,
+/// 8.09 kHz and 10 kHz, all exactly 0.1 dB below the peaks (`T5 = 0`, e.g. at
+/// `f0·cos(π/10)`, the probe's `ref`).
+const CHEBYSHEV_0P1DB_N5: &str = r"
+let r0 = 50 Ω
+let f0 = 10 kHz
+let w0 = 2 * pi * f0
+let g1 = 1.1468130672714618
+let g2 = 1.3712125512670543
+let g3 = 1.9750031575003777
+let g4 = 1.3712125512670543
+let g5 = 1.1468130672714618
+vsrc      VS (p1, gnd) 1 V rs 50 Ω
+capacitor C1 (p1, gnd) (g1 / (r0 * w0))
+inductor  L2 (p1, p2) (g2 * r0 / w0)
+capacitor C3 (p2, gnd) (g3 / (r0 * w0))
+inductor  L4 (p2, out) (g4 * r0 / w0)
+capacitor C5 (out, gnd) (g5 / (r0 * w0))
+resistor  RL (out, gnd) r0
+sweep 10 Hz to 10 MHz per_decade 20
+probe out ref 9510.565162951536 Hz
+";
+
+fn chebyshev_cutoff(level_db: f64, extra_hz: &[f64]) -> Result<f64, MetricError> {
+    let circuit = circuit_from(CHEBYSHEV_0P1DB_N5);
+    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let mut freqs = sweep_frequencies(&circuit);
+    freqs.extend_from_slice(extra_hz);
+    let mut m = metric(
+        &circuit,
+        MetricKind::Cutoff,
+        "out",
+        Some(9_510.565_162_951_536),
+    );
+    m.options.level_db = Some(level_db);
+    measure(&mut analyzer, &m, &freqs)
+}
+
+#[test]
+fn equiripple_minima_touching_the_level_are_not_crossings() {
+    // At the ripple depth the level only touches the two inner minima: the one crossing
+    // is the ripple edge f0 (Chebyshev type I, textbook: |T5(1)| = 1, rising beyond).
+    let f = chebyshev_cutoff(-0.1, &[]).unwrap();
+    assert!(rel(f, 10e3) < 1e-9, "{f}");
+    // The same with sweep points on the minima, where a sample may fall a rounding
+    // below the level and give two sign changes in a row.
+    let minima = [10e3 * (PI / 5.0).cos(), 10e3 * (2.0 * PI / 5.0).cos()];
+    let f = chebyshev_cutoff(-0.1, &minima).unwrap();
+    assert!(rel(f, 10e3) < 1e-9, "{f}");
+    // A level a little above the ripple depth is crossed for real in both minima and at
+    // the edge: |T5(cos θ)| = t with t² = (10^0.009 − 1)/ε², ε² = 10^0.01 − 1, i.e.
+    // θ = (kπ ± φ)/5 with φ = acos t, around the minima k = 1, 2 and the edge k = 0.
+    let e = chebyshev_cutoff(-0.09, &[]).unwrap_err();
+    let MetricError::ManyCrossings { freqs_hz, .. } = e else {
+        panic!("{e}")
+    };
+    let eps2 = 10f64.powf(0.01) - 1.0;
+    let phi = ((10f64.powf(0.009) - 1.0) / eps2).sqrt().acos();
+    let mut expected: Vec<f64> = [2.0 * PI + phi, 2.0 * PI - phi, PI + phi, PI - phi, phi]
+        .iter()
+        .map(|x| 10e3 * (x / 5.0).cos())
+        .collect();
+    expected.sort_by(f64::total_cmp);
+    assert_eq!(freqs_hz.len(), 5, "{freqs_hz:?}");
+    for (got, want) in freqs_hz.iter().zip(&expected) {
+        assert!(rel(*got, *want) < 1e-8, "{got} vs {want}");
+    }
+}
+
+/// A bound prints as written: `20·log10(1/√2)` = −3.0103 dB at fc = 1/(2πRC) of a
+/// first-order low-pass (textbook), R = 1 kΩ, C = 100 nF, fc = 1.5915494309189537 kHz;
+/// the reference at 1 Hz lies 1.7e-6 dB under DC, moving the cutoff by 4e-7 relative.
+#[test]
+fn bounds_print_as_written() {
+    let text = "vsrc V1 (in, gnd) 1 V\nresistor R1 (in, out) 1k\ncapacitor C1 (out, gnd) 100 nF\n\
+                sweep 1 Hz to 1 MHz per_decade 20\nprobe out\n\
+                expect gain(out, 1.5915494309189537 kHz) = -3.0103 dB +- 0.001 dB\n\
+                expect phase(out, 1.5915494309189537 kHz) = -45 deg +- 0.0001 deg\n\
+                expect cutoff(out) = 1.5915494309189537 kHz +- 0.001 %\n\
+                expect cutoff(out) within 1591.5 Hz .. 1591.6 Hz\n";
+    let circuit = circuit_from(text);
+    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let freqs = sweep_frequencies(&circuit);
+    let verdicts = check(&mut analyzer, &freqs);
+    let bounds: Vec<&str> = verdicts.iter().map(|v| v.bound.as_str()).collect();
+    assert_eq!(
+        bounds,
+        [
+            "= −3.0103 dB ± 0.001 dB",
+            "= −45 deg ± 0.0001 deg",
+            "= 1.59154943 kHz ± 0.001 %",
+            "within 1.5915 kHz .. 1.5916 kHz",
+        ]
+    );
+    for v in &verdicts {
+        assert!(v.pass, "{v}");
+    }
+    assert!(
+        verdicts[0]
+            .to_string()
+            .contains("(measured −3.01029996 dB, bound = −3.0103 dB ± 0.001 dB)"),
+        "{}",
+        verdicts[0]
+    );
+}
+
+/// `check` solves each probe once per frequency within a call; its verdicts are exactly
+/// those of measuring every expectation on its own (bit for bit), here on the RC
+/// high-pass (two probes, bias) and on the Chebyshev ladder (the cutoff family at two
+/// levels, spot metrics, and a repeated expectation).
+#[test]
+fn check_reuses_solves_without_changing_results() {
+    let chebyshev = format!(
+        "{CHEBYSHEV_0P1DB_N5}\
+         expect cutoff(out) = 11347.180020503873 Hz ± 1e-5 %\n\
+         expect cutoff(out, level -0.1 dB) = 10 kHz ± 1e-7 %\n\
+         expect cutoff(out, level -0.09 dB) > 1 Hz\n\
+         expect gain(out, 10 kHz) = -6.120599913279625 dB ± 1e-6 dB\n\
+         expect phase(out, 5 kHz) < 0 deg\n\
+         expect group_delay(out, 5 kHz) > 0 s\n\
+         expect passband_gain(out) > -7 dB\n\
+         expect cutoff(out) = 11347.180020503873 Hz ± 1e-5 %\n"
+    );
+    for text in [RC_HIGH_PASS, chebyshev.as_str()] {
+        let circuit = circuit_from(text);
+        let mut analyzer = Analyzer::new(&circuit).unwrap();
+        let freqs = sweep_frequencies(&circuit);
+        let verdicts = check(&mut analyzer, &freqs);
+        let one_by_one: Vec<Verdict> = circuit
+            .expectations
+            .iter()
+            .map(|e| {
+                let unit = measured_unit(&circuit, &e.metric);
+                let (measured, warnings) = measure_with_warnings(&mut analyzer, &e.metric, &freqs);
+                Verdict {
+                    warnings,
+                    ..judge(e, measured, unit)
+                }
+            })
+            .collect();
+        assert_eq!(verdicts.len(), circuit.expectations.len());
+        assert_eq!(verdicts, one_by_one);
+    }
+    // The Chebyshev expectations all hold except the one with five crossings.
+    let circuit = circuit_from(&chebyshev);
+    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let verdicts = check(&mut analyzer, &sweep_frequencies(&circuit));
+    let failing: Vec<usize> = (0..verdicts.len()).filter(|&i| !verdicts[i].pass).collect();
+    assert_eq!(failing, [2], "{verdicts:?}");
+    assert_eq!(verdicts[0].measured, verdicts[7].measured);
+    assert_eq!(verdicts[0].margin, verdicts[7].margin);
 }
