@@ -322,9 +322,36 @@ fn sweep_options_override_the_file() {
         "csv",
     ]);
     assert_exit(&output, 0);
-    // 0 Hz has no place on a log-frequency response; it is left out with a warning.
-    assert_eq!(stdout(&output).lines().count(), 1 + 4);
-    assert!(stderr(&output).contains("0 Hz"));
+    // The language reports a linear sweep's 0 Hz point as DC: a row with frequency 0.
+    let text = stdout(&output);
+    assert_eq!(text.lines().count(), 1 + 5);
+    assert!(text.lines().nth(1).unwrap().starts_with("0,"), "{text}");
+}
+
+/// A series capacitor blocks DC (common practice): at 0 Hz the transfer is exactly zero
+/// (−∞ dB) and the input impedance is an open circuit; neither prints as NaN.
+#[test]
+fn a_linear_sweep_from_0_hz_reports_dc() {
+    let circuit = "vsrc V1 (in, gnd) 1 V\ncapacitor C1 (in, out) 100n\n\
+                   resistor R1 (out, mid) 10k\nresistor R2 (mid, gnd) 10k\n\
+                   sweep 0 Hz to 200 Hz every 100 Hz\nprobe mid\nprobe zin\n";
+    let output = run_with(&["sweep", "-"], Some(circuit), &[]);
+    assert_exit(&output, 0);
+    let table = stdout(&output);
+    let dc_row: Vec<&str> = table.lines().nth(2).unwrap().split_whitespace().collect();
+    assert_eq!(dc_row, ["DC", "−∞", "n/a", "∞", "n/a"], "{table}");
+    assert!(!table.contains("NaN") && !table.contains("inf"), "{table}");
+
+    let output = run_with(&["sweep", "-", "--format", "json"], Some(circuit), &[]);
+    assert_exit(&output, 0);
+    let json: serde_json::Value = serde_json::from_str(&stdout(&output)).unwrap();
+    assert_eq!(json["has_dc"], true);
+    assert_eq!(json["probes"][0]["dc"]["value"], 0.0);
+    assert!(json["probes"][0]["dc"].get("gain_db").is_none());
+    assert_eq!(json["probes"][1]["dc"]["open"], true);
+    // Above DC the divider of two equal resistors behind the capacitor: |H| < 1/2.
+    let first = json["probes"][0]["gain_db"][0].as_f64().unwrap();
+    assert!(first < -6.0206, "{first}");
 }
 
 #[test]

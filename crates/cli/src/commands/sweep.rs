@@ -1,6 +1,6 @@
 //! `rolloff sweep`: the response of every probe across the sweep.
 
-use rolloff_mna::Analyzer;
+use rolloff_mna::{Analyzer, MnaError};
 use rolloff_netlist::{Circuit, PartKind, ProbeKind};
 use rolloff_report::{Analysis, ProbeSource};
 use serde::Serialize;
@@ -22,9 +22,6 @@ pub fn run(args: &SweepArgs, session: &Session) -> Result<Outcome, Reported> {
     let freqs = session.frequencies(&loaded, &args.sweep)?;
     let view = SweepView::solve(&mut analyzer, &freqs, &loaded.source.name)
         .map_err(|m| session.error(&format!("{}: {m}", loaded.source.name)))?;
-    if view.dc_skipped {
-        session.warning("the 0 Hz point is left out: a log-frequency response has no DC point (`rolloff bias` gives the DC solution)");
-    }
     let text = match args.format {
         Format::Table => view.table(),
         Format::Csv => view.csv(),
@@ -45,9 +42,74 @@ pub struct SweepView {
     pub frequency_hz: Vec<f64>,
     /// One entry per probe, in file order.
     pub probes: Vec<ProbeColumn>,
-    /// Whether a 0 Hz point of the sweep was left out.
-    #[serde(skip)]
-    pub dc_skipped: bool,
+    /// Whether the sweep holds a 0 Hz point; each probe's `dc` then holds its value.
+    pub has_dc: bool,
+}
+
+/// A probe's value at 0 Hz (a linear sweep's first point), reported as DC.
+#[derive(Debug, Serialize)]
+pub struct DcPoint {
+    /// Gain in dB (transfer probes); absent when the DC transfer is exactly zero
+    /// (a series capacitor blocks DC) or the probe is an impedance.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub gain_db: Option<f64>,
+    /// Impedance magnitude in Ω (impedance probes).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub impedance_ohm: Option<f64>,
+    /// The real value at DC in the probe's own unit (V/V, S, Ω, …); its sign gives the
+    /// phase (0° or 180°).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub value: Option<f64>,
+    /// Whether the impedance is infinite at DC (an open circuit, e.g. behind a series
+    /// capacitor); `impedance_ohm` is then absent.
+    #[serde(skip_serializing_if = "std::ops::Not::not")]
+    pub open: bool,
+    /// Why there is no DC value (the solver's reason), when there is none.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub error: Option<String>,
+}
+
+impl DcPoint {
+    fn solve(analyzer: &mut Analyzer, kind: &ProbeKind, impedance: bool) -> Self {
+        match analyzer.transfer(kind, 0.0) {
+            Ok(h) => {
+                let magnitude = h.norm();
+                Self {
+                    gain_db: (!impedance && magnitude > 0.0).then(|| 20.0 * magnitude.log10()),
+                    impedance_ohm: impedance.then_some(magnitude),
+                    value: Some(h.re),
+                    open: false,
+                    error: None,
+                }
+            }
+            Err(e) => Self {
+                gain_db: None,
+                impedance_ohm: None,
+                value: None,
+                open: matches!(e, MnaError::InfiniteImpedance { .. }),
+                error: Some(e.to_string()),
+            },
+        }
+    }
+
+    /// The magnitude cell: dB (or `−∞` for an exact zero), Ω, or `n/a`.
+    fn magnitude_text(&self, impedance: bool) -> String {
+        match (self.value, impedance) {
+            (None, _) if self.open => "∞".to_string(),
+            (None, _) => "n/a".to_string(),
+            (Some(_), true) => self
+                .impedance_ohm
+                .map_or("n/a".to_string(), |z| eng(z, "Ω")),
+            (Some(_), false) => self.gain_db.map_or("−∞".to_string(), |g| fixed(g, 2)),
+        }
+    }
+
+    /// The phase cell: 0 or 180 from the sign of the real DC value.
+    fn phase_deg(&self) -> Option<f64> {
+        self.value
+            .filter(|v| *v != 0.0)
+            .map(|v| if v < 0.0 { 180.0 } else { 0.0 })
+    }
 }
 
 /// One probe's response at every frequency of [`SweepView::frequency_hz`].
@@ -66,8 +128,12 @@ pub struct ProbeColumn {
     /// Impedance magnitude in Ω (impedance probes).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub impedance_ohm: Option<Vec<f64>>,
-    /// Phase in degrees, unwrapped from the lowest frequency.
+    /// Phase in degrees, unwrapped from the lowest positive frequency.
     pub phase_deg: Vec<f64>,
+    /// The value at 0 Hz when the sweep holds that point (it is not in the columns above,
+    /// which start at the lowest positive frequency).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub dc: Option<DcPoint>,
 }
 
 impl ProbeColumn {
@@ -94,13 +160,12 @@ impl SweepView {
         let circuit = analyzer.circuit().clone();
         let mut probes = Vec::new();
         let mut frequency_hz = Vec::new();
-        let mut dc_skipped = false;
+        let has_dc = freqs.contains(&0.0);
         for probe in &circuit.probes {
             let mut source = ProbeSource::new(analyzer, probe.kind.clone());
             let analysis = Analysis::new(&mut source, freqs)
                 .map_err(|e| format!("probe `{}`: {e}", probe.name))?;
             frequency_hz = analysis.frequencies().to_vec();
-            dc_skipped = analysis.dc_skipped();
             let impedance = is_impedance(&probe.kind);
             probes.push(ProbeColumn {
                 name: probe.name.clone(),
@@ -110,7 +175,12 @@ impl SweepView {
                 impedance_ohm: impedance
                     .then(|| analysis.values().iter().map(|z| z.norm()).collect()),
                 phase_deg: analysis.phases_deg().to_vec(),
+                dc: None,
             });
+            if has_dc {
+                let last = probes.len() - 1;
+                probes[last].dc = Some(DcPoint::solve(analyzer, &probe.kind, impedance));
+            }
         }
         if probes.is_empty() {
             return Err("the file has no `probe` line, so there is nothing to sweep".to_string());
@@ -120,7 +190,7 @@ impl SweepView {
             title: circuit.title.clone(),
             frequency_hz,
             probes,
-            dc_skipped,
+            has_dc,
         })
     }
 
@@ -137,6 +207,20 @@ impl SweepView {
         }
         let aligns = vec![Align::Right; headers.len()];
         let mut table = Table::with_headers(headers, aligns);
+        if self.has_dc {
+            let mut row = vec!["DC".to_string()];
+            for probe in &self.probes {
+                let dc = probe.dc.as_ref();
+                row.push(dc.map_or("n/a".to_string(), |d| {
+                    d.magnitude_text(probe.is_impedance())
+                }));
+                row.push(
+                    dc.and_then(DcPoint::phase_deg)
+                        .map_or("n/a".to_string(), |p| fixed(p, 1)),
+                );
+            }
+            table.push(row);
+        }
         for (i, &f) in self.frequency_hz.iter().enumerate() {
             let mut row = vec![eng(f, "Hz")];
             for probe in &self.probes {
@@ -161,6 +245,16 @@ impl SweepView {
             header.push(format!("{}_deg", probe.name));
         }
         let mut csv = Csv::new(&header);
+        if self.has_dc {
+            let mut row = vec![Cell::Number(Some(0.0))];
+            for probe in &self.probes {
+                let dc = probe.dc.as_ref();
+                let magnitude = dc.and_then(|d| d.gain_db.or(d.impedance_ohm));
+                row.push(Cell::Number(magnitude));
+                row.push(Cell::Number(dc.and_then(DcPoint::phase_deg)));
+            }
+            csv.push(&row);
+        }
         for (i, &f) in self.frequency_hz.iter().enumerate() {
             let mut row = vec![Cell::Number(Some(f))];
             for probe in &self.probes {
