@@ -395,7 +395,7 @@ fn report_summarises_each_probe() {
         "cutoff high",
         "bandwidth",
         "slope below",
-        "order 1",
+        "order below     1 (20.0 dB/dec)",
         "group delay",
         "CB",
         "25.00 V",

@@ -411,7 +411,9 @@ impl ProbeView {
             table.push(vec!["notch".into(), eng(f, "Hz"), format!("depth {depth}")]);
         }
         for band in &self.stopbands {
-            table.push(stopband_row(band));
+            for row in stopband_rows(band) {
+                table.push(row);
+            }
         }
         if let (Some(delay), Some(p)) = (self.group_delay_s, &self.passband) {
             table.push(vec![
@@ -457,33 +459,51 @@ fn push_optional(table: &mut Table, label: &str, value: Option<String>) {
     }
 }
 
-fn stopband_row(band: &StopbandView) -> Vec<String> {
-    let label = if band.side == "low" {
-        "slope below"
+/// Two rows per stopband side: the slope over the decade just beyond the cutoff, and
+/// the asymptotic order from the decade after it (each with where it was measured).
+fn stopband_rows(band: &StopbandView) -> Vec<Vec<String>> {
+    let (slope_label, order_label) = if band.side == "low" {
+        ("slope below", "order below")
     } else {
-        "slope above"
+        ("slope above", "order above")
     };
-    let Some(slope) = band.far.as_ref().or(band.near.as_ref()) else {
-        return vec![label.into(), "n/a".into(), String::new()];
-    };
-    let order = band
-        .order
-        .map(|o| format!(", order {o}"))
-        .unwrap_or_default();
-    let beyond = if slope.beyond_sweep {
-        " (beyond the sweep)"
-    } else {
-        ""
-    };
-    vec![
-        label.into(),
-        fixed_unit(slope.db_per_decade, 1, "dB/dec"),
+    let place = |slope: &SlopeView| {
+        let beyond = if slope.beyond_sweep {
+            " (beyond the sweep)"
+        } else {
+            ""
+        };
         format!(
-            "{} .. {}{order}{beyond}",
+            "{} .. {}{beyond}",
             eng(slope.from_hz, "Hz"),
             eng(slope.to_hz, "Hz")
-        ),
-    ]
+        )
+    };
+    let slope_row = match &band.near {
+        Some(near) => vec![
+            slope_label.into(),
+            fixed_unit(near.db_per_decade, 1, "dB/dec"),
+            place(near),
+        ],
+        None => vec![slope_label.into(), "n/a".into(), String::new()],
+    };
+    let order_row = match (&band.far, band.order) {
+        (Some(far), Some(order)) => vec![
+            order_label.into(),
+            format!("{order} ({})", fixed_unit(far.db_per_decade, 1, "dB/dec")),
+            place(far),
+        ],
+        (Some(far), None) => vec![
+            order_label.into(),
+            "n/a".into(),
+            format!(
+                "{} is not a multiple of 20 dB/dec",
+                fixed_unit(far.db_per_decade, 1, "dB/dec")
+            ),
+        ],
+        (None, _) => vec![order_label.into(), "n/a".into(), String::new()],
+    };
+    vec![slope_row, order_row]
 }
 
 impl BiasView {
