@@ -8,7 +8,9 @@
 //! Brent's minimiser otherwise. The definitions are written out in `docs/metrics.md`.
 
 use crate::format::{DEFAULT_LEVEL_DB, fmt_db, fmt_hz, fmt_num};
-use crate::numeric::{self, MIN_TOL, ROOT_TOL, brent_min, brent_root, nearest_branch};
+use crate::numeric::{
+    self, MIN_TOL, ROOT_ITERATIONS, ROOT_TOL, brent_min, brent_root, nearest_branch,
+};
 use crate::{MetricError, ReportError, ResponseSource};
 use num_complex::Complex64;
 use rolloff_netlist::{MetricKind, MetricOptions};
@@ -473,7 +475,7 @@ impl<'a> Analysis<'a> {
         let Some((a, b)) = bracket else {
             return Ok(None);
         };
-        let x = brent_root(&mut slope, a, b, ROOT_TOL)?;
+        let x = brent_root(&mut slope, a, b, ROOT_TOL, ROOT_ITERATIONS)?;
         let f = x.exp();
         Ok(Some((f, db(source.eval(f)?))))
     }
@@ -752,7 +754,7 @@ impl<'a> Analysis<'a> {
         let source = &mut *self.source;
         let mut f =
             |x: f64| -> Result<f64, ReportError> { Ok(db(source.eval(x.exp())?) - threshold) };
-        Ok(brent_root(&mut f, a, b, ROOT_TOL)?.exp())
+        Ok(brent_root(&mut f, a, b, ROOT_TOL, ROOT_ITERATIONS)?.exp())
     }
 
     /// The value of one metric (not `bias`, which needs the circuit).

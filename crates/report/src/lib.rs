@@ -29,7 +29,7 @@ mod analysis;
 mod error;
 mod expect;
 mod format;
-mod numeric;
+pub mod numeric;
 mod snapshot;
 mod solver;
 mod source;

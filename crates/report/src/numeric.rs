@@ -7,15 +7,29 @@ pub const ROOT_TOL: f64 = 1e-12;
 /// Absolute tolerance in `ln f` for a minimum located without a derivative (a smooth
 /// minimum is only defined to about √ε of its abscissa).
 pub const MIN_TOL: f64 = 2e-9;
+/// Iteration cap of the metric engine's root searches (Brent converges in far fewer).
+pub const ROOT_ITERATIONS: usize = 200;
 
 /// Brent's method (inverse quadratic interpolation safeguarded by bisection) for a root
 /// of `f` in `[a, b]`, where `fa = f(a)` and `fb = f(b)` have opposite signs (or one is
-/// zero). Converges to `tol` in the abscissa; errors of `f` are passed through.
+/// zero). Converges to `tol` in the abscissa within `max_iterations` steps (the best
+/// point so far is returned after them); errors of `f` are passed through.
+///
+/// ```
+/// use rolloff_report::numeric::brent_root;
+/// let mut f = |x: f64| Ok::<f64, ()>(x * x - 2.0);
+/// let root = brent_root(&mut f, (0.0, -2.0), (2.0, 2.0), 1e-14, 100).unwrap();
+/// assert!((root - 2f64.sqrt()).abs() < 1e-13);
+/// ```
+///
+/// # Errors
+/// The first error of `f`.
 pub fn brent_root<E>(
     f: &mut dyn FnMut(f64) -> Result<f64, E>,
     (a, fa): (f64, f64),
     (b, fb): (f64, f64),
     tol: f64,
+    max_iterations: usize,
 ) -> Result<f64, E> {
     if fa == 0.0 {
         return Ok(a);
@@ -27,7 +41,7 @@ pub fn brent_root<E>(
     let (mut c, mut fc) = (b, fb);
     let mut d = b - a;
     let mut e = d;
-    for _ in 0..200 {
+    for _ in 0..max_iterations {
         if (fb > 0.0) == (fc > 0.0) {
             c = a;
             fc = fa;
@@ -86,6 +100,9 @@ pub fn brent_root<E>(
 /// Brent's minimiser (golden section with parabolic steps) of `f` on `[a, b]`, started
 /// from an interior point `x0` with value `f0` (the best sample). Returns the abscissa and
 /// value of the smallest point seen.
+///
+/// # Errors
+/// The first error of `f`.
 pub fn brent_min<E>(
     f: &mut dyn FnMut(f64) -> Result<f64, E>,
     (mut a, mut b): (f64, f64),
@@ -187,7 +204,7 @@ mod tests {
     fn root_of_cubic_to_tolerance() {
         // x³ − 2 = 0 has the root 2^(1/3) (exact arithmetic).
         let mut f = |x: f64| Ok::<f64, ()>(x * x * x - 2.0);
-        let root = brent_root(&mut f, (0.0, -2.0), (2.0, 6.0), 1e-14).unwrap();
+        let root = brent_root(&mut f, (0.0, -2.0), (2.0, 6.0), 1e-14, ROOT_ITERATIONS).unwrap();
         assert!((root - 2f64.cbrt()).abs() < 1e-13, "{root}");
     }
 

@@ -12,6 +12,7 @@ use crate::error::ToleranceError;
 use crate::model::{Model, expectation_metrics, sum_is_series};
 use crate::series::{Combination, Joining, Series, StandardValue};
 use rolloff_netlist::{Comparison, Deviation, FitRange, Metric, PartId, PartKind, Unit};
+use rolloff_report::numeric::brent_root;
 
 /// Options of [`fit`].
 #[derive(Debug, Clone, PartialEq)]
@@ -153,8 +154,9 @@ pub fn fit<M: Model>(model: &M, options: &FitOptions) -> Result<FitReport, Toler
             high: range.high,
             found,
         })?;
-    let root = brent(
-        &mut residual,
+    let mut located = |u: f64| residual(u).map_err(|reason| (u, reason));
+    let root = brent_root(
+        &mut located,
         (a, fa),
         (b, fb),
         options.log_tolerance,
@@ -632,82 +634,6 @@ fn describe(seen: &[f64], failure: Option<String>) -> String {
         text = format!("{text} (it failed at some values: {reason})");
     }
     text
-}
-
-/// Brent's root finder on a bracket `(a, f(a)), (b, f(b))` with opposite signs.
-/// Returns the root in `u`, or the point and reason where `f` failed.
-fn brent(
-    f: &mut impl FnMut(f64) -> Result<f64, String>,
-    (mut a, mut fa): (f64, f64),
-    (mut b, mut fb): (f64, f64),
-    tolerance: f64,
-    max_iterations: usize,
-) -> Result<f64, (f64, String)> {
-    if fa == 0.0 {
-        return Ok(a);
-    }
-    if fb == 0.0 {
-        return Ok(b);
-    }
-    let (mut c, mut fc) = (b, fb);
-    let mut d = b - a;
-    let mut e = d;
-    for _ in 0..max_iterations {
-        if (fb > 0.0) == (fc > 0.0) {
-            c = a;
-            fc = fa;
-            d = b - a;
-            e = d;
-        }
-        if fc.abs() < fb.abs() {
-            a = b;
-            b = c;
-            c = a;
-            fa = fb;
-            fb = fc;
-            fc = fa;
-        }
-        let tol1 = 2.0 * f64::EPSILON * b.abs() + 0.5 * tolerance;
-        let xm = 0.5 * (c - b);
-        if xm.abs() <= tol1 || fb == 0.0 {
-            return Ok(b);
-        }
-        if e.abs() >= tol1 && fa.abs() > fb.abs() {
-            // Inverse quadratic interpolation, or the secant when only two points differ.
-            let s = fb / fa;
-            let (mut p, mut q);
-            if a == c {
-                p = 2.0 * xm * s;
-                q = 1.0 - s;
-            } else {
-                let qa = fa / fc;
-                let r = fb / fc;
-                p = s * (2.0 * xm * qa * (qa - r) - (b - a) * (r - 1.0));
-                q = (qa - 1.0) * (r - 1.0) * (s - 1.0);
-            }
-            if p > 0.0 {
-                q = -q;
-            }
-            p = p.abs();
-            let min1 = 3.0 * xm * q - (tol1 * q).abs();
-            let min2 = (e * q).abs();
-            if 2.0 * p < min1.min(min2) {
-                e = d;
-                d = p / q;
-            } else {
-                d = xm;
-                e = d;
-            }
-        } else {
-            d = xm;
-            e = d;
-        }
-        a = b;
-        fa = fb;
-        b += if d.abs() > tol1 { d } else { tol1.copysign(xm) };
-        fb = f(b).map_err(|reason| (b, reason))?;
-    }
-    Ok(b)
 }
 
 #[cfg(test)]

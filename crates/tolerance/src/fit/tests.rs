@@ -11,11 +11,11 @@ fn brent_finds_textbook_roots() {
     // classical test of root finders).
     let mut f = |x: f64| Ok::<_, String>(x * x * x - 2.0 * x - 5.0);
     let (fa, fb) = (f(2.0).unwrap(), f(3.0).unwrap());
-    let root = brent(&mut f, (2.0, fa), (3.0, fb), 1e-15, 100).unwrap();
+    let root = brent_root(&mut f, (2.0, fa), (3.0, fb), 1e-15, 100).unwrap();
     assert!((root - 2.094_551_481_542_326_5).abs() < 1e-14);
     // cos x = x: 0.7390851332151607 (the Dottie number).
     let mut g = |x: f64| Ok::<_, String>(x.cos() - x);
-    let root = brent(&mut g, (0.0, 1.0), (1.0, 1f64.cos() - 1.0), 1e-15, 100).unwrap();
+    let root = brent_root(&mut g, (0.0, 1.0), (1.0, 1f64.cos() - 1.0), 1e-15, 100).unwrap();
     assert!((root - 0.739_085_133_215_160_7).abs() < 1e-14);
 }
 
