@@ -361,7 +361,9 @@ fn node_list(i: In<'_>) -> PResult<'_, (Vec<Ident<'_>>, Span)> {
     let start = i;
     let (i, ()) = sym("(", "`(` and the nodes")(i)?;
     let (mut i, first) = cut_err(node(i))?;
-    let mut nodes = vec![first];
+    // Two nodes is the usual list: one exact allocation, no growth.
+    let mut nodes = Vec::with_capacity(2);
+    nodes.push(first);
     loop {
         if let Ok((j, ())) = sym(",", "")(i) {
             let (j, n) = cut_err(node(j))?;
@@ -1112,7 +1114,8 @@ fn fit_value(i: In<'_>) -> PResult<'_, PartValue<'_>> {
 
 fn part_options(mut i: In<'_>, k: PartKeyword) -> PResult<'_, Vec<(PartOption<'_>, Span)>> {
     let mut options: Vec<(PartOption, Span)> = Vec::new();
-    let mut seen: Vec<&'static str> = Vec::new();
+    // Bit `k` set: option `k` of `k.options()` was given (a kind has at most three).
+    let mut seen = 0u8;
     loop {
         let (j, ()) = ws(i)?;
         if j.fragment().is_empty() {
@@ -1121,10 +1124,11 @@ fn part_options(mut i: In<'_>, k: PartKeyword) -> PResult<'_, Vec<(PartOption<'_
         let Ok((after, w)) = word(j) else {
             return err(&j, option_expectation(k));
         };
-        let Some(&option) = k.options().iter().find(|&&o| o == w.name) else {
+        let Some(index) = k.options().iter().position(|&o| o == w.name) else {
             return fail(bad_option(&w, k));
         };
-        if seen.contains(&option) {
+        let option = k.options()[index];
+        if seen & (1 << index) != 0 {
             return fail(
                 PError::custom(
                     w.span.start,
@@ -1135,7 +1139,11 @@ fn part_options(mut i: In<'_>, k: PartKeyword) -> PResult<'_, Vec<(PartOption<'_
                 .label("second one here"),
             );
         }
-        seen.push(option);
+        seen |= 1 << index;
+        if options.is_empty() {
+            // One option is the usual case, and an option is large: no spare room.
+            options.reserve_exact(1);
+        }
         let (after, parsed) = match option {
             "polar" => (after, PartOption::Polar),
             "tol" => {
