@@ -140,6 +140,19 @@ impl NameKind {
     }
 }
 
+/// What the one namespace holds for a name.
+#[derive(Debug, Clone, Copy)]
+struct NameEntry {
+    kind: NameKind,
+    span: Span,
+    /// The `NodeId` of a node, the `PartId` of a built part, else [`NO_INDEX`].
+    index: u32,
+}
+
+/// [`NameEntry::index`] of a name with no node or part (a `let`, a block, a probe, a
+/// block instance, a part that failed to build).
+const NO_INDEX: u32 = u32::MAX;
+
 /// The names in scope while expanding a block body: its parameters and pins.
 #[derive(Default)]
 struct Scope {
@@ -170,11 +183,10 @@ pub(crate) fn elaborate(
         blocks: HashMap::new(),
         names: Map::default(),
         nodes: vec!["gnd".into()],
-        node_index: std::iter::once((Cow::Borrowed("gnd"), NodeId::GND)).collect(),
+        shadow_nodes: Map::default(),
         node_span: vec![Span::default()],
         node_connections: vec![0],
         parts: Vec::new(),
-        part_index: Map::default(),
         part_name_span: Vec::new(),
         bad_blocks: HashSet::new(),
         failed_parts: HashSet::new(),
@@ -182,8 +194,14 @@ pub(crate) fn elaborate(
         line_starts: std::cell::OnceCell::new(),
         has_fit: false,
     };
-    e.names
-        .insert(Cow::Borrowed("gnd"), (NameKind::Node, Span::default()));
+    e.names.insert(
+        Cow::Borrowed("gnd"),
+        NameEntry {
+            kind: NameKind::Node,
+            span: Span::default(),
+            index: NodeId::GND.0,
+        },
+    );
     e.run(statements, overrides)
 }
 
@@ -193,13 +211,15 @@ struct Elaborator<'a> {
     lets: Map<String, LetBinding>,
     let_order: Vec<String>,
     blocks: HashMap<String, &'a BlockDef<'a>>,
-    names: Map<Name<'a>, (NameKind, Span)>,
+    /// Every name with what it is, and the node or part it stands for (one table, so
+    /// a part or a new node costs one hash lookup).
+    names: Map<Name<'a>, NameEntry>,
     nodes: Vec<String>,
-    node_index: Map<Name<'a>, NodeId>,
+    /// Nodes whose name is already something else (an error, reported once).
+    shadow_nodes: Map<Name<'a>, NodeId>,
     node_span: Vec<Span>,
     node_connections: Vec<u32>,
     parts: Vec<Part>,
-    part_index: Map<Name<'a>, PartId>,
     part_name_span: Vec<Span>,
     bad_blocks: HashSet<String>,
     failed_parts: HashSet<String>,
@@ -234,8 +254,6 @@ impl<'a> Elaborator<'a> {
     fn run(&mut self, statements: &'a [Stmt<'a>], overrides: &[(String, Expr, String)]) -> Circuit {
         let n = statements.len();
         self.names.reserve(2 * n);
-        self.node_index.reserve(n);
-        self.part_index.reserve(n);
         self.parts.reserve(n);
         self.nodes.reserve(n);
         self.node_span.reserve(n);
@@ -337,7 +355,12 @@ impl<'a> Elaborator<'a> {
             spans[new] = self.node_span[old];
             connections[new] = self.node_connections[old];
         }
-        for id in self.node_index.values_mut() {
+        for entry in self.names.values_mut() {
+            if entry.kind == NameKind::Node && entry.index != NO_INDEX {
+                entry.index = new_id[entry.index as usize];
+            }
+        }
+        for id in self.shadow_nodes.values_mut() {
             map(id);
         }
         self.nodes = nodes;
@@ -349,18 +372,19 @@ impl<'a> Elaborator<'a> {
 
     /// Enters a declared name into the one namespace; a duplicate is an error.
     fn declare(&mut self, id: &Ident<'a>, kind: NameKind) -> bool {
-        self.declare_name(Cow::Borrowed(id.name), id.span, kind)
+        self.declare_name(Cow::Borrowed(id.name), id.span, kind, NO_INDEX)
     }
 
-    fn declare_name(&mut self, name: Name<'a>, span: Span, kind: NameKind) -> bool {
+    /// Like [`Self::declare`], recording the node or part `index` the name stands for.
+    fn declare_name(&mut self, name: Name<'a>, span: Span, kind: NameKind, index: u32) -> bool {
         let (name, previous, previous_span) = match self.names.entry(name) {
             Entry::Vacant(v) => {
-                v.insert((kind, span));
+                v.insert(NameEntry { kind, span, index });
                 return true;
             }
             Entry::Occupied(o) => {
-                let (previous, previous_span) = *o.get();
-                (o.key().to_string(), previous, previous_span)
+                let previous = *o.get();
+                (o.key().to_string(), previous.kind, previous.span)
             }
         };
         let line = self.line_of(previous_span);
@@ -751,27 +775,37 @@ impl<'a> Elaborator<'a> {
 
     /// The node of a (qualified) name, made on first mention; counts a connection.
     fn node_named(&mut self, qualified: Name<'a>, span: Span) -> NodeId {
-        if let Some(&n) = self.node_index.get(qualified.as_ref()) {
-            self.node_connections[n.index()] += 1;
-            return n;
-        }
-        match self.names.entry(qualified.clone()) {
+        let n = NodeId(self.nodes.len() as u32);
+        match self.names.entry(qualified) {
             Entry::Occupied(o) => {
-                let kind = o.get().0;
+                let entry = *o.get();
+                if entry.kind == NameKind::Node {
+                    self.node_connections[entry.index as usize] += 1;
+                    return NodeId(entry.index);
+                }
+                let qualified = o.key().clone();
+                if let Some(&n) = self.shadow_nodes.get(qualified.as_ref()) {
+                    self.node_connections[n.index()] += 1;
+                    return n;
+                }
                 self.error(
                     DiagnosticKind::Duplicate,
                     span,
-                    format!("`{qualified}` is {}, not a node", kind.word()),
+                    format!("`{qualified}` is {}, not a node", entry.kind.word()),
                 )
                 .expected = Some("expected a node name".into());
+                self.nodes.push(qualified.to_string());
+                self.shadow_nodes.insert(qualified, n);
             }
             Entry::Vacant(v) => {
-                v.insert((NameKind::Node, span));
+                self.nodes.push(v.key().to_string());
+                v.insert(NameEntry {
+                    kind: NameKind::Node,
+                    span,
+                    index: n.0,
+                });
             }
         }
-        let n = NodeId(self.nodes.len() as u32);
-        self.nodes.push(qualified.to_string());
-        self.node_index.insert(qualified, n);
         self.node_span.push(span);
         self.node_connections.push(1);
         n
@@ -834,17 +868,20 @@ impl<'a> Elaborator<'a> {
             .expected = Some(format!("expected {want}"));
             return;
         }
-        if !self.declare_name(name.clone(), p.name.span, NameKind::Part) {
+        // Building the part adds no other part, so its id is known now.
+        let id = PartId(self.parts.len() as u32);
+        if !self.declare_name(name.clone(), p.name.span, NameKind::Part, id.0) {
             return;
         }
         let (nodes, from) = (&node_array[..n_nodes], &from_array[..n_from]);
         let Some(kind) = self.part_kind(p, nodes, from, scope) else {
+            if let Some(entry) = self.names.get_mut(name.as_ref()) {
+                entry.index = NO_INDEX;
+            }
             // Keep the name reserved, so later mentions do not add "unknown" errors.
             self.failed_parts.insert(name.into_owned());
             return;
         };
-        let id = PartId(self.parts.len() as u32);
-        self.part_index.insert(name.clone(), id);
         self.part_name_span.push(p.name.span);
         if nodes.len() == 2 && nodes[0] == nodes[1] && !p.keyword.has_from() {
             let d = Diagnostic::warning(
@@ -1279,7 +1316,12 @@ impl<'a> Elaborator<'a> {
             return;
         }
         let instance = format!("{}{}", scope.prefix, u.name.name);
-        if !self.declare_name(Cow::Owned(instance.clone()), u.name.span, NameKind::Part) {
+        if !self.declare_name(
+            Cow::Owned(instance.clone()),
+            u.name.span,
+            NameKind::Part,
+            NO_INDEX,
+        ) {
             return;
         }
         let stages = match u.chain {
@@ -1373,8 +1415,7 @@ impl<'a> Elaborator<'a> {
                 junction
             };
             let stage = format!("{instance}.s{k}");
-            self.names
-                .insert(Cow::Owned(stage.clone()), (NameKind::Part, def.name.span));
+            self.name_stage(stage.clone(), def.name.span);
             let inner = Scope {
                 params: params.clone(),
                 pins: HashMap::from([
@@ -1386,6 +1427,58 @@ impl<'a> Elaborator<'a> {
             self.expand_body(def, &inner, depth);
             input = output;
         }
+    }
+
+    /// Enters a chain stage's name, replacing what the name was (as ever), but keeping
+    /// a node or part it stood for findable.
+    fn name_stage(&mut self, stage: String, span: Span) {
+        let entry = NameEntry {
+            kind: NameKind::Part,
+            span,
+            index: NO_INDEX,
+        };
+        let key: Name<'a> = Cow::Owned(stage);
+        match self.names.entry(key) {
+            Entry::Vacant(v) => {
+                v.insert(entry);
+            }
+            Entry::Occupied(mut o) => {
+                let old = o.insert(entry);
+                if old.index != NO_INDEX {
+                    if old.kind == NameKind::Node {
+                        let key = o.key().clone();
+                        self.shadow_nodes.insert(key, NodeId(old.index));
+                    } else {
+                        o.get_mut().index = old.index;
+                    }
+                }
+            }
+        }
+    }
+
+    /// The node a name stands for, if any.
+    fn find_node(&self, name: &str) -> Option<NodeId> {
+        match self.names.get(name) {
+            Some(e) if e.kind == NameKind::Node => Some(NodeId(e.index)),
+            Some(_) => self.shadow_nodes.get(name).copied(),
+            None => None,
+        }
+    }
+
+    /// The built part a name stands for, if any.
+    fn find_part(&self, name: &str) -> Option<PartId> {
+        self.names
+            .get(name)
+            .filter(|e| e.kind == NameKind::Part && e.index != NO_INDEX)
+            .map(|e| PartId(e.index))
+    }
+
+    /// The names of the built parts (for did-you-mean searches).
+    fn part_names(&self) -> impl Iterator<Item = String> + '_ {
+        self.names
+            .iter()
+            .filter(|(_, e)| e.kind == NameKind::Part && e.index != NO_INDEX)
+            .map(|(k, _)| k.to_string())
     }
 
     fn expand_body(&mut self, def: &BlockDef<'a>, inner: &Scope, depth: usize) {
@@ -1487,8 +1580,8 @@ impl<'a> Elaborator<'a> {
     }
 
     fn resolve_drive(&mut self, n: &Ident, circuit: &Circuit) -> Option<PartId> {
-        let Some(&id) = self.part_index.get(n.name) else {
-            let names = self.candidates(|e| e.part_index.keys().map(ToString::to_string).collect());
+        let Some(id) = self.find_part(n.name) else {
+            let names = self.candidates(|e| e.part_names().collect());
             self.unknown(
                 n,
                 "a source",
@@ -1649,7 +1742,7 @@ impl<'a> Elaborator<'a> {
     }
 
     fn node_ref(&mut self, n: &Ident) -> Option<NodeId> {
-        if let Some(&id) = self.node_index.get(n.name) {
+        if let Some(id) = self.find_node(n.name) {
             return Some(id);
         }
         let candidates = self.candidates(|e| e.nodes.clone());
@@ -1662,13 +1755,13 @@ impl<'a> Elaborator<'a> {
     }
 
     fn part_ref(&mut self, n: &Ident) -> Option<PartId> {
-        if let Some(&id) = self.part_index.get(n.name) {
+        if let Some(id) = self.find_part(n.name) {
             return Some(id);
         }
         if self.failed_parts.contains(n.name) {
             return None;
         }
-        let names = self.candidates(|e| e.part_index.keys().map(ToString::to_string).collect());
+        let names = self.candidates(|e| e.part_names().collect());
         self.unknown(
             n,
             "a part",
@@ -1731,10 +1824,10 @@ impl<'a> Elaborator<'a> {
                 if let Some(i) = circuit.probes.iter().position(|p| p.name == n.name) {
                     return Some(Target::Probe(ProbeId(i as u32)));
                 }
-                if let Some(&id) = self.node_index.get(n.name) {
+                if let Some(id) = self.find_node(n.name) {
                     return Some(Target::Node(id));
                 }
-                if allow_part && let Some(&id) = self.part_index.get(n.name) {
+                if allow_part && let Some(id) = self.find_part(n.name) {
                     return Some(Target::Part(id));
                 }
                 let candidates = self.candidates(|e| {
@@ -1742,7 +1835,7 @@ impl<'a> Elaborator<'a> {
                         circuit.probes.iter().map(|p| p.name.clone()).collect();
                     all.extend(e.nodes.iter().cloned());
                     if allow_part {
-                        all.extend(e.part_index.keys().map(ToString::to_string));
+                        all.extend(e.part_names());
                     }
                     all
                 });
