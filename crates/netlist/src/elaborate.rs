@@ -23,34 +23,63 @@ use crate::units::{
     AMPERE, DIMENSIONLESS, Dim, FARAD, HENRY, HERTZ, OHM, SECOND, SIEMENS, VOLT, format_number,
 };
 use std::borrow::Cow;
+use std::collections::hash_map::Entry;
 use std::collections::{HashMap, HashSet};
 use std::hash::{BuildHasherDefault, Hasher};
 
-/// FNV-1a: names are short and not adversarial, and SipHash showed up in profiles of
+/// A small multiply-rotate hash that takes eight bytes a step, with a final mix so
+/// the low bits (the table's bucket index) depend on every byte. Names are short and
+/// not adversarial; SipHash, and then byte-at-a-time FNV-1a, showed up in profiles of
 /// 100 000-part files.
-struct Fnv(u64);
+#[derive(Default)]
+struct NameHasher(u64);
 
-impl Default for Fnv {
-    fn default() -> Self {
-        Fnv(0xcbf2_9ce4_8422_2325)
+impl NameHasher {
+    const K: u64 = 0x517c_c1b7_2722_0a95;
+
+    fn add(&mut self, word: u64) {
+        self.0 = (self.0.rotate_left(5) ^ word).wrapping_mul(Self::K);
     }
 }
 
-impl Hasher for Fnv {
+impl Hasher for NameHasher {
     fn write(&mut self, bytes: &[u8]) {
-        for &b in bytes {
-            self.0 ^= u64::from(b);
-            self.0 = self.0.wrapping_mul(0x0100_0000_01b3);
+        let mut chunks = bytes.chunks_exact(8);
+        for chunk in &mut chunks {
+            let mut word = [0u8; 8];
+            word.copy_from_slice(chunk);
+            self.add(u64::from_le_bytes(word));
+        }
+        let rest = chunks.remainder();
+        if !rest.is_empty() {
+            let mut word = [0u8; 8];
+            word[..rest.len()].copy_from_slice(rest);
+            self.add(u64::from_le_bytes(word));
         }
     }
 
+    fn write_u8(&mut self, n: u8) {
+        self.add(u64::from(n));
+    }
+
     fn finish(&self) -> u64 {
-        self.0
+        // The 64-bit finaliser of MurmurHash3 (public domain), spreading every input
+        // bit over the low bits too.
+        let mut h = self.0;
+        h ^= h >> 33;
+        h = h.wrapping_mul(0xff51_afd7_ed55_8ccd);
+        h ^= h >> 33;
+        h = h.wrapping_mul(0xc4ce_b9fe_1a85_ec53);
+        h ^ (h >> 33)
     }
 }
 
 /// The name tables' map type.
-type Map<K, V> = HashMap<K, V, BuildHasherDefault<Fnv>>;
+type Map<K, V> = HashMap<K, V, BuildHasherDefault<NameHasher>>;
+
+/// A name-table key: borrowed from the source for top-level names, owned for the
+/// qualified names of block instances (so a large flat file allocates no keys).
+type Name<'a> = Cow<'a, str>;
 
 /// `prefix + name` without allocating at the top level.
 fn qualify<'n>(prefix: &str, name: &'n str) -> Cow<'n, str> {
@@ -111,6 +140,19 @@ impl NameKind {
     }
 }
 
+/// What the one namespace holds for a name.
+#[derive(Debug, Clone, Copy)]
+struct NameEntry {
+    kind: NameKind,
+    span: Span,
+    /// The `NodeId` of a node, the `PartId` of a built part, else [`NO_INDEX`].
+    index: u32,
+}
+
+/// [`NameEntry::index`] of a name with no node or part (a `let`, a block, a probe, a
+/// block instance, a part that failed to build).
+const NO_INDEX: u32 = u32::MAX;
+
 /// The names in scope while expanding a block body: its parameters and pins.
 #[derive(Default)]
 struct Scope {
@@ -141,11 +183,10 @@ pub(crate) fn elaborate(
         blocks: HashMap::new(),
         names: Map::default(),
         nodes: vec!["gnd".into()],
-        node_index: std::iter::once(("gnd".to_string(), NodeId::GND)).collect(),
+        shadow_nodes: Map::default(),
         node_span: vec![Span::default()],
         node_connections: vec![0],
         parts: Vec::new(),
-        part_index: Map::default(),
         part_name_span: Vec::new(),
         bad_blocks: HashSet::new(),
         failed_parts: HashSet::new(),
@@ -153,8 +194,14 @@ pub(crate) fn elaborate(
         line_starts: std::cell::OnceCell::new(),
         has_fit: false,
     };
-    e.names
-        .insert("gnd".into(), (NameKind::Node, Span::default()));
+    e.names.insert(
+        Cow::Borrowed("gnd"),
+        NameEntry {
+            kind: NameKind::Node,
+            span: Span::default(),
+            index: NodeId::GND.0,
+        },
+    );
     e.run(statements, overrides)
 }
 
@@ -164,13 +211,15 @@ struct Elaborator<'a> {
     lets: Map<String, LetBinding>,
     let_order: Vec<String>,
     blocks: HashMap<String, &'a BlockDef<'a>>,
-    names: Map<String, (NameKind, Span)>,
+    /// Every name with what it is, and the node or part it stands for (one table, so
+    /// a part or a new node costs one hash lookup).
+    names: Map<Name<'a>, NameEntry>,
     nodes: Vec<String>,
-    node_index: Map<String, NodeId>,
+    /// Nodes whose name is already something else (an error, reported once).
+    shadow_nodes: Map<Name<'a>, NodeId>,
     node_span: Vec<Span>,
     node_connections: Vec<u32>,
     parts: Vec<Part>,
-    part_index: Map<String, PartId>,
     part_name_span: Vec<Span>,
     bad_blocks: HashSet<String>,
     failed_parts: HashSet<String>,
@@ -202,11 +251,9 @@ impl<'a> Elaborator<'a> {
         starts.partition_point(|&start| start <= span.start).max(1)
     }
 
-    fn run(&mut self, statements: &'a [Stmt], overrides: &[(String, Expr, String)]) -> Circuit {
+    fn run(&mut self, statements: &'a [Stmt<'a>], overrides: &[(String, Expr, String)]) -> Circuit {
         let n = statements.len();
         self.names.reserve(2 * n);
-        self.node_index.reserve(n);
-        self.part_index.reserve(n);
         self.parts.reserve(n);
         self.nodes.reserve(n);
         self.node_span.reserve(n);
@@ -308,7 +355,12 @@ impl<'a> Elaborator<'a> {
             spans[new] = self.node_span[old];
             connections[new] = self.node_connections[old];
         }
-        for id in self.node_index.values_mut() {
+        for entry in self.names.values_mut() {
+            if entry.kind == NameKind::Node && entry.index != NO_INDEX {
+                entry.index = new_id[entry.index as usize];
+            }
+        }
+        for id in self.shadow_nodes.values_mut() {
             map(id);
         }
         self.nodes = nodes;
@@ -319,36 +371,43 @@ impl<'a> Elaborator<'a> {
     // ------------------------------------------------------------ names
 
     /// Enters a declared name into the one namespace; a duplicate is an error.
-    fn declare(&mut self, id: &Ident, kind: NameKind) -> bool {
-        self.declare_name(id.name, id.span, kind)
+    fn declare(&mut self, id: &Ident<'a>, kind: NameKind) -> bool {
+        self.declare_name(Cow::Borrowed(id.name), id.span, kind, NO_INDEX)
     }
 
-    fn declare_name(&mut self, name: &str, span: Span, kind: NameKind) -> bool {
-        if let Some(&(previous, previous_span)) = self.names.get(name) {
-            let line = self.line_of(previous_span);
-            let note = if previous_span == Span::default() {
-                format!("`{name}` is the reference node")
-            } else {
-                format!("`{name}` is already {} (line {line})", previous.word())
-            };
-            self.error(
-                DiagnosticKind::Duplicate,
-                span,
-                format!("the name `{name}` is used twice"),
-            )
-            .with_expected_note(
-                "names of parts, nodes, lets, blocks and probes must all differ",
-                note,
-            );
-            return false;
-        }
-        self.names.insert(name.to_string(), (kind, span));
-        true
+    /// Like [`Self::declare`], recording the node or part `index` the name stands for.
+    fn declare_name(&mut self, name: Name<'a>, span: Span, kind: NameKind, index: u32) -> bool {
+        let (name, previous, previous_span) = match self.names.entry(name) {
+            Entry::Vacant(v) => {
+                v.insert(NameEntry { kind, span, index });
+                return true;
+            }
+            Entry::Occupied(o) => {
+                let previous = *o.get();
+                (o.key().to_string(), previous.kind, previous.span)
+            }
+        };
+        let line = self.line_of(previous_span);
+        let note = if previous_span == Span::default() {
+            format!("`{name}` is the reference node")
+        } else {
+            format!("`{name}` is already {} (line {line})", previous.word())
+        };
+        self.error(
+            DiagnosticKind::Duplicate,
+            span,
+            format!("the name `{name}` is used twice"),
+        )
+        .with_expected_note(
+            "names of parts, nodes, lets, blocks and probes must all differ",
+            note,
+        );
+        false
     }
 
     // ------------------------------------------------------------ lets and values
 
-    fn define_lets(&mut self, statements: &[Stmt], overrides: &[(String, Expr, String)]) {
+    fn define_lets(&mut self, statements: &'a [Stmt<'a>], overrides: &[(String, Expr, String)]) {
         let known: HashSet<&str> = statements
             .iter()
             .filter_map(|s| match &s.kind {
@@ -702,7 +761,7 @@ impl<'a> Elaborator<'a> {
 
     // ------------------------------------------------------------ parts
 
-    fn node_id(&mut self, id: &Ident, scope: &Scope) -> NodeId {
+    fn node_id(&mut self, id: &Ident<'a>, scope: &Scope) -> NodeId {
         if id.name == "gnd" {
             self.node_connections[0] += 1;
             return NodeId::GND;
@@ -711,44 +770,72 @@ impl<'a> Elaborator<'a> {
             self.node_connections[n.index()] += 1;
             return n;
         }
-        let qualified = qualify(&scope.prefix, id.name);
-        if let Some(&n) = self.node_index.get(qualified.as_ref()) {
-            self.node_connections[n.index()] += 1;
-            return n;
-        }
-        let qualified = qualified.into_owned();
-        if let Some(&(kind, _)) = self.names.get(&qualified) {
-            self.error(
-                DiagnosticKind::Duplicate,
-                id.span,
-                format!("`{qualified}` is {}, not a node", kind.word()),
-            )
-            .expected = Some("expected a node name".into());
-        } else {
-            self.names
-                .insert(qualified.clone(), (NameKind::Node, id.span));
-        }
+        self.node_named(qualify(&scope.prefix, id.name), id.span)
+    }
+
+    /// The node of a (qualified) name, made on first mention; counts a connection.
+    fn node_named(&mut self, qualified: Name<'a>, span: Span) -> NodeId {
         let n = NodeId(self.nodes.len() as u32);
-        self.nodes.push(qualified.clone());
-        self.node_index.insert(qualified, n);
-        self.node_span.push(id.span);
+        match self.names.entry(qualified) {
+            Entry::Occupied(o) => {
+                let entry = *o.get();
+                if entry.kind == NameKind::Node {
+                    self.node_connections[entry.index as usize] += 1;
+                    return NodeId(entry.index);
+                }
+                let qualified = o.key().clone();
+                if let Some(&n) = self.shadow_nodes.get(qualified.as_ref()) {
+                    self.node_connections[n.index()] += 1;
+                    return n;
+                }
+                self.error(
+                    DiagnosticKind::Duplicate,
+                    span,
+                    format!("`{qualified}` is {}, not a node", entry.kind.word()),
+                )
+                .expected = Some("expected a node name".into());
+                self.nodes.push(qualified.to_string());
+                self.shadow_nodes.insert(qualified, n);
+            }
+            Entry::Vacant(v) => {
+                self.nodes.push(v.key().to_string());
+                v.insert(NameEntry {
+                    kind: NameKind::Node,
+                    span,
+                    index: n.0,
+                });
+            }
+        }
+        self.node_span.push(span);
         self.node_connections.push(1);
         n
     }
 
-    fn uncounted_node(&mut self, id: &Ident, scope: &Scope) -> NodeId {
+    fn uncounted_node(&mut self, id: &Ident<'a>, scope: &Scope) -> NodeId {
         let n = self.node_id(id, scope);
         self.node_connections[n.index()] -= 1;
         n
     }
 
-    fn add_part(&mut self, p: &PartStmt, span: Span, scope: &Scope) {
-        let name = qualify(&scope.prefix, p.name.name).into_owned();
-        let nodes: Vec<NodeId> = p.nodes.iter().map(|n| self.node_id(n, scope)).collect();
-        let from: Vec<NodeId> = p.from.iter().map(|n| self.node_id(n, scope)).collect();
-        if nodes.len() != p.keyword.n_nodes()
-            || from.len() != if p.keyword.has_from() { 2 } else { 0 }
-        {
+    /// The nodes of a connection list (every one made and counted), keeping the first
+    /// two: no part kind has more in one list, and a longer list is an error that
+    /// needs only the count.
+    fn node_ids(&mut self, ids: &[Ident<'a>], scope: &Scope) -> ([NodeId; 2], usize) {
+        let mut out = [NodeId::GND; 2];
+        for (k, id) in ids.iter().enumerate() {
+            let n = self.node_id(id, scope);
+            if let Some(slot) = out.get_mut(k) {
+                *slot = n;
+            }
+        }
+        (out, ids.len())
+    }
+
+    fn add_part(&mut self, p: &PartStmt<'a>, span: Span, scope: &Scope) {
+        let name = qualify(&scope.prefix, p.name.name);
+        let (node_array, n_nodes) = self.node_ids(&p.nodes, scope);
+        let (from_array, n_from) = self.node_ids(&p.from, scope);
+        if n_nodes != p.keyword.n_nodes() || n_from != if p.keyword.has_from() { 2 } else { 0 } {
             let want = match p.keyword {
                 PartKeyword::Opamp => "one output node, then `from (in+, in-)`",
                 PartKeyword::Vcvs | PartKeyword::Vccs => "two output nodes, then `from (in+, in-)`",
@@ -767,30 +854,34 @@ impl<'a> Elaborator<'a> {
                         "{} `{}` connects {want}; this one has {} and {}",
                         article(p.keyword.word()),
                         p.keyword.word(),
-                        nodes.len(),
-                        from.len()
+                        n_nodes,
+                        n_from
                     )
                 } else {
                     format!(
                         "a `{}` connects {want}; this one has {}",
                         p.keyword.word(),
-                        nodes.len()
+                        n_nodes
                     )
                 },
             )
             .expected = Some(format!("expected {want}"));
             return;
         }
-        if !self.declare_name(&name, p.name.span, NameKind::Part) {
+        // Building the part adds no other part, so its id is known now.
+        let id = PartId(self.parts.len() as u32);
+        if !self.declare_name(name.clone(), p.name.span, NameKind::Part, id.0) {
             return;
         }
-        let Some(kind) = self.part_kind(p, &nodes, &from, scope) else {
+        let (nodes, from) = (&node_array[..n_nodes], &from_array[..n_from]);
+        let Some(kind) = self.part_kind(p, nodes, from, scope) else {
+            if let Some(entry) = self.names.get_mut(name.as_ref()) {
+                entry.index = NO_INDEX;
+            }
             // Keep the name reserved, so later mentions do not add "unknown" errors.
-            self.failed_parts.insert(name);
+            self.failed_parts.insert(name.into_owned());
             return;
         };
-        let id = PartId(self.parts.len() as u32);
-        self.part_index.insert(name.clone(), id);
         self.part_name_span.push(p.name.span);
         if nodes.len() == 2 && nodes[0] == nodes[1] && !p.keyword.has_from() {
             let d = Diagnostic::warning(
@@ -804,7 +895,11 @@ impl<'a> Elaborator<'a> {
             .with_expected("this part does nothing");
             self.diags.push(d);
         }
-        self.parts.push(Part { name, kind, span });
+        self.parts.push(Part {
+            name: name.into_owned(),
+            kind,
+            span,
+        });
     }
 
     fn option<'p, 's>(p: &'p PartStmt<'s>, key: &str) -> Option<&'p PartOption<'s>> {
@@ -1203,7 +1298,7 @@ impl<'a> Elaborator<'a> {
         None
     }
 
-    fn expand_use(&mut self, u: &UseStmt, scope: &Scope, depth: usize) {
+    fn expand_use(&mut self, u: &UseStmt<'a>, scope: &Scope, depth: usize) {
         let Some(&def) = self.blocks.get(u.block.name) else {
             let mut d = Diagnostic::error(
                 DiagnosticKind::UnknownName,
@@ -1221,7 +1316,12 @@ impl<'a> Elaborator<'a> {
             return;
         }
         let instance = format!("{}{}", scope.prefix, u.name.name);
-        if !self.declare_name(&instance, u.name.span, NameKind::Part) {
+        if !self.declare_name(
+            Cow::Owned(instance.clone()),
+            u.name.span,
+            NameKind::Part,
+            NO_INDEX,
+        ) {
             return;
         }
         let stages = match u.chain {
@@ -1297,7 +1397,7 @@ impl<'a> Elaborator<'a> {
 
     fn expand_chain(
         &mut self,
-        def: &BlockDef,
+        def: &BlockDef<'a>,
         instance: &str,
         n: u64,
         outer: &[NodeId],
@@ -1309,20 +1409,13 @@ impl<'a> Elaborator<'a> {
             let output = if k == n {
                 outer[1]
             } else {
-                let junction_name = format!("j{k}");
-                let junction = Ident {
-                    name: &junction_name,
-                    span: def.name.span,
-                };
-                let scope = Scope {
-                    prefix: format!("{instance}."),
-                    ..Scope::default()
-                };
-                self.uncounted_node(&junction, &scope)
+                let junction =
+                    self.node_named(Cow::Owned(format!("{instance}.j{k}")), def.name.span);
+                self.node_connections[junction.index()] -= 1;
+                junction
             };
             let stage = format!("{instance}.s{k}");
-            self.names
-                .insert(stage.clone(), (NameKind::Part, def.name.span));
+            self.name_stage(stage.clone(), def.name.span);
             let inner = Scope {
                 params: params.clone(),
                 pins: HashMap::from([
@@ -1336,7 +1429,59 @@ impl<'a> Elaborator<'a> {
         }
     }
 
-    fn expand_body(&mut self, def: &BlockDef, inner: &Scope, depth: usize) {
+    /// Enters a chain stage's name, replacing what the name was (as ever), but keeping
+    /// a node or part it stood for findable.
+    fn name_stage(&mut self, stage: String, span: Span) {
+        let entry = NameEntry {
+            kind: NameKind::Part,
+            span,
+            index: NO_INDEX,
+        };
+        let key: Name<'a> = Cow::Owned(stage);
+        match self.names.entry(key) {
+            Entry::Vacant(v) => {
+                v.insert(entry);
+            }
+            Entry::Occupied(mut o) => {
+                let old = o.insert(entry);
+                if old.index != NO_INDEX {
+                    if old.kind == NameKind::Node {
+                        let key = o.key().clone();
+                        self.shadow_nodes.insert(key, NodeId(old.index));
+                    } else {
+                        o.get_mut().index = old.index;
+                    }
+                }
+            }
+        }
+    }
+
+    /// The node a name stands for, if any.
+    fn find_node(&self, name: &str) -> Option<NodeId> {
+        match self.names.get(name) {
+            Some(e) if e.kind == NameKind::Node => Some(NodeId(e.index)),
+            Some(_) => self.shadow_nodes.get(name).copied(),
+            None => None,
+        }
+    }
+
+    /// The built part a name stands for, if any.
+    fn find_part(&self, name: &str) -> Option<PartId> {
+        self.names
+            .get(name)
+            .filter(|e| e.kind == NameKind::Part && e.index != NO_INDEX)
+            .map(|e| PartId(e.index))
+    }
+
+    /// The names of the built parts (for did-you-mean searches).
+    fn part_names(&self) -> impl Iterator<Item = String> + '_ {
+        self.names
+            .iter()
+            .filter(|(_, e)| e.kind == NameKind::Part && e.index != NO_INDEX)
+            .map(|(k, _)| k.to_string())
+    }
+
+    fn expand_body(&mut self, def: &BlockDef<'a>, inner: &Scope, depth: usize) {
         for stmt in &def.body {
             match &stmt.kind {
                 StmtKind::Part(p) => self.add_part(p, stmt.span, inner),
@@ -1393,7 +1538,7 @@ impl<'a> Elaborator<'a> {
 
     // ------------------------------------------------------------ analyses
 
-    fn analyses(&mut self, statements: &[Stmt], circuit: &mut Circuit) {
+    fn analyses(&mut self, statements: &'a [Stmt<'a>], circuit: &mut Circuit) {
         let root = Scope::default();
         let mut drive_span = None;
         let mut sweep_span = None;
@@ -1435,8 +1580,8 @@ impl<'a> Elaborator<'a> {
     }
 
     fn resolve_drive(&mut self, n: &Ident, circuit: &Circuit) -> Option<PartId> {
-        let Some(&id) = self.part_index.get(n.name) else {
-            let names = self.candidates(|e| e.part_index.keys().cloned().collect());
+        let Some(id) = self.find_part(n.name) else {
+            let names = self.candidates(|e| e.part_names().collect());
             self.unknown(
                 n,
                 "a source",
@@ -1597,7 +1742,7 @@ impl<'a> Elaborator<'a> {
     }
 
     fn node_ref(&mut self, n: &Ident) -> Option<NodeId> {
-        if let Some(&id) = self.node_index.get(n.name) {
+        if let Some(id) = self.find_node(n.name) {
             return Some(id);
         }
         let candidates = self.candidates(|e| e.nodes.clone());
@@ -1610,13 +1755,13 @@ impl<'a> Elaborator<'a> {
     }
 
     fn part_ref(&mut self, n: &Ident) -> Option<PartId> {
-        if let Some(&id) = self.part_index.get(n.name) {
+        if let Some(id) = self.find_part(n.name) {
             return Some(id);
         }
         if self.failed_parts.contains(n.name) {
             return None;
         }
-        let names = self.candidates(|e| e.part_index.keys().cloned().collect());
+        let names = self.candidates(|e| e.part_names().collect());
         self.unknown(
             n,
             "a part",
@@ -1627,7 +1772,7 @@ impl<'a> Elaborator<'a> {
 
     fn probe(
         &mut self,
-        p: &ProbeStmt,
+        p: &ProbeStmt<'a>,
         span: Span,
         circuit: &Circuit,
         scope: &Scope,
@@ -1679,10 +1824,10 @@ impl<'a> Elaborator<'a> {
                 if let Some(i) = circuit.probes.iter().position(|p| p.name == n.name) {
                     return Some(Target::Probe(ProbeId(i as u32)));
                 }
-                if let Some(&id) = self.node_index.get(n.name) {
+                if let Some(id) = self.find_node(n.name) {
                     return Some(Target::Node(id));
                 }
-                if allow_part && let Some(&id) = self.part_index.get(n.name) {
+                if allow_part && let Some(id) = self.find_part(n.name) {
                     return Some(Target::Part(id));
                 }
                 let candidates = self.candidates(|e| {
@@ -1690,7 +1835,7 @@ impl<'a> Elaborator<'a> {
                         circuit.probes.iter().map(|p| p.name.clone()).collect();
                     all.extend(e.nodes.iter().cloned());
                     if allow_part {
-                        all.extend(e.part_index.keys().cloned());
+                        all.extend(e.part_names());
                     }
                     all
                 });
@@ -1972,9 +2117,8 @@ impl<'a> Elaborator<'a> {
         let n = nodes.len();
         let mut parent: Vec<u32> = (0..n as u32).collect();
         for part in parts {
-            for (a, b) in conductive_pairs(&part.kind) {
-                union(&mut parent, a.0, b.0);
-            }
+            let (a, b) = conductive_pair(&part.kind);
+            union(&mut parent, a.0, b.0);
         }
         let ground = find(&mut parent, 0);
         let mut groups: HashMap<u32, Vec<usize>> = HashMap::new();
@@ -2116,21 +2260,21 @@ fn for_each_node(kind: &mut PartKind, mut f: impl FnMut(&mut NodeId)) {
     }
 }
 
-/// The node pairs a part connects for the "path to gnd" check (capacitors count).
-fn conductive_pairs(kind: &PartKind) -> Vec<(NodeId, NodeId)> {
+/// The node pair a part connects for the "path to gnd" check (capacitors count).
+fn conductive_pair(kind: &PartKind) -> (NodeId, NodeId) {
     match *kind {
         PartKind::Resistor { a, b, .. }
         | PartKind::Capacitor { a, b, .. }
-        | PartKind::Inductor { a, b, .. } => vec![(a, b)],
-        PartKind::VoltageSource { pos, neg, .. } => vec![(pos, neg)],
-        PartKind::CurrentSource { from, to, .. } => vec![(from, to)],
+        | PartKind::Inductor { a, b, .. } => (a, b),
+        PartKind::VoltageSource { pos, neg, .. } => (pos, neg),
+        PartKind::CurrentSource { from, to, .. } => (from, to),
         PartKind::Vcvs {
             out_pos, out_neg, ..
         }
         | PartKind::Vccs {
             out_pos, out_neg, ..
-        } => vec![(out_pos, out_neg)],
-        PartKind::OpAmp { out, .. } => vec![(out, NodeId::GND)],
+        } => (out_pos, out_neg),
+        PartKind::OpAmp { out, .. } => (out, NodeId::GND),
     }
 }
 
