@@ -190,6 +190,7 @@ pub(crate) fn elaborate(
         part_name_span: Vec::new(),
         bad_blocks: HashSet::new(),
         failed_parts: HashSet::new(),
+        failed_links: Vec::new(),
         suggestions_left: 50,
         line_starts: std::cell::OnceCell::new(),
         has_fit: false,
@@ -223,6 +224,9 @@ struct Elaborator<'a> {
     part_name_span: Vec<Span>,
     bad_blocks: HashSet<String>,
     failed_parts: HashSet<String>,
+    /// Nodes joined by part lines that failed to elaborate: the ground-path check
+    /// counts them as connected, so a rejected line reports its own error only.
+    failed_links: Vec<(NodeId, NodeId)>,
     suggestions_left: usize,
     line_starts: std::cell::OnceCell<Vec<usize>>,
     has_fit: bool,
@@ -880,6 +884,9 @@ impl<'a> Elaborator<'a> {
             }
             // Keep the name reserved, so later mentions do not add "unknown" errors.
             self.failed_parts.insert(name.into_owned());
+            let all = nodes.iter().chain(from);
+            self.failed_links
+                .extend(all.clone().zip(all.skip(1)).map(|(a, b)| (*a, *b)));
             return;
         };
         self.part_name_span.push(p.name.span);
@@ -2118,6 +2125,9 @@ impl<'a> Elaborator<'a> {
         let mut parent: Vec<u32> = (0..n as u32).collect();
         for part in parts {
             let (a, b) = conductive_pair(&part.kind);
+            union(&mut parent, a.0, b.0);
+        }
+        for &(a, b) in &self.failed_links {
             union(&mut parent, a.0, b.0);
         }
         let ground = find(&mut parent, 0);

@@ -409,6 +409,16 @@ fn no_path_to_ground() {
     ok(&format!(
         "{V}capacitor C1 (a, b) 1u\ncapacitor C2 (b, gnd) 1u\n"
     ));
+    // A part line rejected for its value still joins its nodes, so its node does not
+    // get a second, misleading error.
+    let d = diagnostics(&format!(
+        "{V}resistor R1 (a, gnd) 1k\ncapacitor C1 (out, gnd) 10 uH\nresistor R2 (out, x) 1k\nresistor R3 (x, out) 1k\n"
+    ));
+    assert_eq!(
+        d.iter().map(|d| d.kind).collect::<Vec<_>>(),
+        [K::Dimension],
+        "{d:?}"
+    );
 }
 
 #[test]
