@@ -56,6 +56,7 @@ mod analyzer;
 mod bias;
 mod error;
 mod solver;
+mod sparse;
 mod system;
 mod topology;
 
@@ -63,4 +64,7 @@ pub use analyzer::Analyzer;
 pub use bias::BiasReport;
 pub use error::{BiasWarning, MnaError, MnaWarning};
 pub use solver::{DenseLu, FactorReport, LinearSolver, SolverError};
+pub use sparse::{
+    AutoLu, CscValues, DENSE_ALWAYS_MAX, DENSE_NEVER_ABOVE, PIVOT_THRESHOLD, SolverChoice, SparseLu,
+};
 pub use system::{Coef, Matrix, ParamRole, Parameter, SourceStamp, StampEntry, System, Unknown};

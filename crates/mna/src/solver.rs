@@ -81,12 +81,12 @@ pub struct DenseLu {
 
 /// `|re| + |im|`, the cheap magnitude LU pivoting uses.
 #[inline]
-fn norm1(z: Complex64) -> f64 {
+pub(crate) fn norm1(z: Complex64) -> f64 {
     z.re.abs() + z.im.abs()
 }
 
 /// The power of two `2^-e` with `2^e <= m < 2^(e+1)`, for finite `m > 0`.
-fn inverse_pow2(m: f64) -> f64 {
+pub(crate) fn inverse_pow2(m: f64) -> f64 {
     let bits = m.to_bits();
     let biased = ((bits >> 52) & 0x7ff) as i32;
     let e = if biased == 0 {

@@ -143,8 +143,7 @@ pub struct System {
     main_param: Vec<Option<usize>>,
     branch: Vec<Option<usize>>,
     sources: Vec<SourceStamp>,
-    g: Vec<f64>,
-    c: Vec<f64>,
+    csc: crate::sparse::CscValues,
 }
 
 /// The unknown index of a node, `None` for `gnd`.
@@ -395,9 +394,9 @@ impl System {
             main_param,
             branch,
             sources,
-            g: vec![0.0; dim * dim],
-            c: vec![0.0; dim * dim],
+            csc: crate::sparse::CscValues::default(),
         };
+        system.csc = crate::sparse::CscValues::new(dim, &system.entries);
         system.refresh_numeric();
         system
     }
@@ -461,40 +460,29 @@ impl System {
         self.params[index].value
     }
 
-    /// Recomputes the dense numeric `G` and `C` from the pattern and the parameters.
+    /// Recomputes the numeric `G` and `C` values from the pattern and the parameters.
     fn refresh_numeric(&mut self) {
-        let System {
-            dim,
-            entries,
-            params,
-            g,
-            c,
-            ..
-        } = self;
-        g.fill(0.0);
-        c.fill(0.0);
-        for e in entries.iter() {
-            let v = match e.coef {
-                Coef::Const(v) => v,
-                Coef::Param { index, scale } => scale * params[index].value,
-                Coef::Reciprocal { index, scale } => scale / params[index].value,
-            };
-            let target = match e.matrix {
-                Matrix::G => &mut *g,
-                Matrix::C => &mut *c,
-            };
-            target[e.col * *dim + e.row] += v;
-        }
+        self.csc.refresh(&self.entries, &self.params);
+    }
+
+    /// The compressed-column form of the pattern with the numeric `G` and `C` values
+    /// (memory linear in the circuit; the sparse solver reads it).
+    pub fn csc(&self) -> &crate::sparse::CscValues {
+        &self.csc
     }
 
     /// The dense conductance matrix `G`, column-major `dim × dim`.
+    ///
+    /// Built on first use (and after a value change) for the dense path and for
+    /// diagnostics; the sparse path never calls it, so large systems never hold `dim²`.
     pub fn g_dense(&self) -> &[f64] {
-        &self.g
+        &self.csc.dense().0
     }
 
-    /// The dense susceptance matrix `C`, column-major `dim × dim`.
+    /// The dense susceptance matrix `C`, column-major `dim × dim` (built on first use,
+    /// as [`System::g_dense`]).
     pub fn c_dense(&self) -> &[f64] {
-        &self.c
+        &self.csc.dense().1
     }
 
     /// Writes `Y(jω) = G + jωC` into `y` (column-major `dim × dim`).
@@ -503,24 +491,11 @@ impl System {
     /// If `y` does not have `dim²` elements (a programming error).
     pub fn fill_dense(&self, omega: f64, y: &mut [Complex64]) {
         assert_eq!(y.len(), self.dim * self.dim, "matrix buffer size");
-        for ((y, &g), &c) in y.iter_mut().zip(&self.g).zip(&self.c) {
-            *y = Complex64::new(g, omega * c);
-        }
+        self.csc.fill_dense(omega, y);
     }
 
-    /// `out = C · x` (dense).
+    /// `out = C · x` (from the compressed columns).
     pub(crate) fn c_times(&self, x: &[Complex64], out: &mut [Complex64]) {
-        out.fill(Complex64::new(0.0, 0.0));
-        let n = self.dim;
-        for (j, &xj) in x.iter().enumerate() {
-            if xj == Complex64::new(0.0, 0.0) {
-                continue;
-            }
-            for (o, &c) in out.iter_mut().zip(&self.c[j * n..(j + 1) * n]) {
-                if c != 0.0 {
-                    *o += xj * c;
-                }
-            }
-        }
+        self.csc.c_times(x, out);
     }
 }

@@ -1,0 +1,948 @@
+//! The sparse path: the stamp pattern in compressed columns, and a sparse complex LU
+//! whose ordering, symbolic analysis and pivot sequence are computed once per
+//! [`System`], with only the numeric factorisation repeated per frequency.
+//!
+//! # Method
+//! [`SparseLu::for_system`] asks faer (0.24, `sparse-linalg`) for a COLAMD
+//! fill-reducing column order and a simplicial partial-pivoting LU of the
+//! equilibrated `Y(jω_ref)`, at a reference frequency where `G` and `ωC` have the same
+//! overall size. The row pivots and the patterns of `L` and `U` from that
+//! factorisation are kept. Every later factorisation is a left-looking
+//! (Gilbert–Peierls) refactorisation over those fixed patterns with the same pivots:
+//! no graph search, no pivot search, no allocation. Each pivot is checked against the
+//! largest candidate below it in its column (threshold [`PIVOT_THRESHOLD`], the
+//! threshold partial pivoting of the sparse direct literature, e.g. Davis, *Direct
+//! Methods for Sparse Linear Systems*, SIAM 2006, §6); when it fails (a DC point
+//! where capacitors vanish, say), that one frequency is factorised afresh by faer with
+//! full partial pivoting, and the kept reference is left untouched. So the result at
+//! a frequency depends on that frequency alone, whichever order or thread the
+//! frequencies are solved in.
+//!
+//! Why faer: it is pure Rust, already an approved dependency, has complex LU with a
+//! COLAMD ordering and an exposed simplicial factor (the patterns this module reuses),
+//! and it needs no C library or BLAS. Its own "numeric" refactorisation redoes the
+//! sparse reach and the pivot search for every matrix; the static refactorisation
+//! here removes that work, which is most of the cost on ladder-like circuits.
+//!
+//! Equilibration is the dense path's: rows, then columns, by powers of two (exact),
+//! so the pivot ratio, the pivot growth and the condition estimate mean the same on
+//! both paths. Memory is linear in the number of stamp entries and of factor entries.
+
+use std::sync::OnceLock;
+
+use faer::dyn_stack::{MemBuffer, MemStack};
+use faer::sparse::linalg::SupernodalThreshold;
+use faer::sparse::linalg::lu::{LuSymbolicParams, SymbolicLu, factorize_symbolic_lu, simplicial};
+use faer::sparse::{SparseColMatRef, SymbolicSparseColMatRef};
+use num_complex::Complex64;
+
+use crate::solver::{DenseLu, FactorReport, LinearSolver, SolverError, inverse_pow2, norm1};
+use crate::system::{Coef, Matrix, Parameter, StampEntry, System};
+
+const ZERO: Complex64 = Complex64::new(0.0, 0.0);
+
+/// A kept pivot is accepted when `|pivot| ≥ PIVOT_THRESHOLD · max |candidate|` over
+/// the entries below it in its column (`|re| + |im|` magnitudes).
+pub const PIVOT_THRESHOLD: f64 = 1e-2;
+
+/// The stamp pattern in compressed sparse columns with the numeric `G` and `C` values
+/// at each position (several stamp entries at one position are summed).
+///
+/// Row indices are sorted within each column. Memory is linear in the number of stamp
+/// entries; the dense `G` and `C` are built only when asked for.
+#[derive(Debug, Clone, Default)]
+pub struct CscValues {
+    dim: usize,
+    col_ptr: Vec<usize>,
+    row_idx: Vec<usize>,
+    slot: Vec<usize>,
+    g: Vec<f64>,
+    c: Vec<f64>,
+    dense: OnceLock<(Vec<f64>, Vec<f64>)>,
+}
+
+impl CscValues {
+    /// The compressed pattern of `entries` for a `dim × dim` system (values zero until
+    /// [`CscValues::refresh`]).
+    pub fn new(dim: usize, entries: &[StampEntry]) -> CscValues {
+        let mut counts = vec![0usize; dim + 1];
+        let mut pos: Vec<(usize, usize)> = entries.iter().map(|e| (e.col, e.row)).collect();
+        pos.sort_unstable();
+        pos.dedup();
+        for &(c, _) in &pos {
+            counts[c + 1] += 1;
+        }
+        for k in 0..dim {
+            counts[k + 1] += counts[k];
+        }
+        let row_idx: Vec<usize> = pos.iter().map(|&(_, r)| r).collect();
+        let slot = entries
+            .iter()
+            .map(|e| {
+                let (lo, hi) = (counts[e.col], counts[e.col + 1]);
+                lo + row_idx[lo..hi].partition_point(|&r| r < e.row)
+            })
+            .collect();
+        let nnz = row_idx.len();
+        CscValues {
+            dim,
+            col_ptr: counts,
+            row_idx,
+            slot,
+            g: vec![0.0; nnz],
+            c: vec![0.0; nnz],
+            dense: OnceLock::new(),
+        }
+    }
+
+    /// Recomputes the values from the entries' coefficients and the parameters.
+    pub fn refresh(&mut self, entries: &[StampEntry], params: &[Parameter]) {
+        self.g.fill(0.0);
+        self.c.fill(0.0);
+        for (e, &s) in entries.iter().zip(&self.slot) {
+            let v = match e.coef {
+                Coef::Const(v) => v,
+                Coef::Param { index, scale } => scale * params[index].value,
+                Coef::Reciprocal { index, scale } => scale / params[index].value,
+            };
+            match e.matrix {
+                Matrix::G => self.g[s] += v,
+                Matrix::C => self.c[s] += v,
+            }
+        }
+        self.dense = OnceLock::new();
+    }
+
+    /// Number of unknowns.
+    pub fn dim(&self) -> usize {
+        self.dim
+    }
+
+    /// Number of stored positions.
+    pub fn nnz(&self) -> usize {
+        self.row_idx.len()
+    }
+
+    /// Column pointers (`dim + 1` of them).
+    pub fn col_ptr(&self) -> &[usize] {
+        &self.col_ptr
+    }
+
+    /// Row indices, sorted within each column.
+    pub fn row_idx(&self) -> &[usize] {
+        &self.row_idx
+    }
+
+    /// `G` at each stored position.
+    pub fn g_values(&self) -> &[f64] {
+        &self.g
+    }
+
+    /// `C` at each stored position.
+    pub fn c_values(&self) -> &[f64] {
+        &self.c
+    }
+
+    /// Writes the values of `Y(jω) = G + jωC` at the stored positions into `out`.
+    pub fn fill(&self, omega: f64, out: &mut [Complex64]) {
+        for ((o, &g), &c) in out.iter_mut().zip(&self.g).zip(&self.c) {
+            *o = Complex64::new(g, omega * c);
+        }
+    }
+
+    /// Writes the dense `Y(jω)` (column-major) into `y`, which has `dim²` elements.
+    pub(crate) fn fill_dense(&self, omega: f64, y: &mut [Complex64]) {
+        y.fill(ZERO);
+        let n = self.dim;
+        for col in 0..n {
+            for s in self.col_ptr[col]..self.col_ptr[col + 1] {
+                y[col * n + self.row_idx[s]] = Complex64::new(self.g[s], omega * self.c[s]);
+            }
+        }
+    }
+
+    /// The dense `(G, C)`, column-major, built once on first use.
+    pub(crate) fn dense(&self) -> &(Vec<f64>, Vec<f64>) {
+        self.dense.get_or_init(|| {
+            let n = self.dim;
+            let (mut g, mut c) = (vec![0.0; n * n], vec![0.0; n * n]);
+            for col in 0..n {
+                for s in self.col_ptr[col]..self.col_ptr[col + 1] {
+                    g[col * n + self.row_idx[s]] = self.g[s];
+                    c[col * n + self.row_idx[s]] = self.c[s];
+                }
+            }
+            (g, c)
+        })
+    }
+
+    /// `out = C · x`.
+    pub(crate) fn c_times(&self, x: &[Complex64], out: &mut [Complex64]) {
+        out.fill(ZERO);
+        for (col, &xj) in x.iter().enumerate() {
+            if xj == ZERO {
+                continue;
+            }
+            for s in self.col_ptr[col]..self.col_ptr[col + 1] {
+                let c = self.c[s];
+                if c != 0.0 {
+                    out[self.row_idx[s]] += xj * c;
+                }
+            }
+        }
+    }
+}
+
+/// `L` and `U` of `P A Q = L U` over fixed patterns, in the index spaces the solves
+/// need: `L`'s rows are original row numbers, `U`'s are pivot positions (ascending
+/// within a column, the diagonal kept apart).
+#[derive(Debug, Clone, Default)]
+struct Factors {
+    n: usize,
+    /// Pivot position → original row.
+    row_perm: Vec<usize>,
+    /// Pivot position → original column.
+    col_perm: Vec<usize>,
+    l_ptr: Vec<usize>,
+    l_row: Vec<usize>,
+    l_val: Vec<Complex64>,
+    u_ptr: Vec<usize>,
+    u_pos: Vec<usize>,
+    u_row: Vec<usize>,
+    u_val: Vec<Complex64>,
+    diag: Vec<Complex64>,
+    inv_diag: Vec<Complex64>,
+    /// Cycles of the map `row_perm[j] → col_perm[j]`, flattened, each of length ≥ 2,
+    /// with their start offsets in `cycle_ptr`.
+    cycles: Vec<usize>,
+    cycle_ptr: Vec<usize>,
+    /// Scratch for [`Factors::load`] (kept so a reload allocates nothing).
+    scratch_col: Vec<(usize, Complex64)>,
+    scratch_target: Vec<usize>,
+    scratch_seen: Vec<bool>,
+}
+
+impl Factors {
+    /// Takes over faer's simplicial factors (reusing this value's storage).
+    fn load(
+        &mut self,
+        lu: &simplicial::SimplicialLu<usize, Complex64>,
+        row_perm: &[usize],
+        col_perm: &[usize],
+    ) {
+        let n = row_perm.len();
+        self.n = n;
+        self.row_perm.clear();
+        self.row_perm.extend_from_slice(row_perm);
+        self.col_perm.clear();
+        self.col_perm.extend_from_slice(col_perm);
+        let l = lu.l_factor_unsorted();
+        let u = lu.u_factor_unsorted();
+        self.l_ptr.clear();
+        self.l_row.clear();
+        self.l_val.clear();
+        self.u_ptr.clear();
+        self.u_pos.clear();
+        self.u_row.clear();
+        self.u_val.clear();
+        self.diag.clear();
+        self.inv_diag.clear();
+        self.l_ptr.push(0);
+        self.u_ptr.push(0);
+        let mut col = std::mem::take(&mut self.scratch_col);
+        for j in 0..n {
+            // L: pivot positions ≥ j, the unit diagonal first; stored without it.
+            for (p, &v) in l.row_idx_of_col(j).zip(l.val_of_col(j)) {
+                if p != j {
+                    self.l_row.push(row_perm[p]);
+                    self.l_val.push(v);
+                }
+            }
+            self.l_ptr.push(self.l_row.len());
+            col.clear();
+            let mut d = ZERO;
+            for (p, &v) in u.row_idx_of_col(j).zip(u.val_of_col(j)) {
+                if p == j {
+                    d = v;
+                } else {
+                    col.push((p, v));
+                }
+            }
+            col.sort_unstable_by_key(|&(p, _)| p);
+            for &(p, v) in &col {
+                self.u_pos.push(p);
+                self.u_row.push(row_perm[p]);
+                self.u_val.push(v);
+            }
+            self.u_ptr.push(self.u_pos.len());
+            self.diag.push(d);
+            self.inv_diag.push(if d == ZERO { ZERO } else { d.inv() });
+        }
+        // The cycles of the final permutation (position row_perm[j] → col_perm[j]).
+        self.scratch_col = col;
+        let mut target = std::mem::take(&mut self.scratch_target);
+        target.clear();
+        target.resize(n, 0);
+        for j in 0..n {
+            target[row_perm[j]] = col_perm[j];
+        }
+        let mut seen = std::mem::take(&mut self.scratch_seen);
+        seen.clear();
+        seen.resize(n, false);
+        self.cycles.clear();
+        self.cycle_ptr.clear();
+        self.cycle_ptr.push(0);
+        for start in 0..n {
+            if seen[start] || target[start] == start {
+                continue;
+            }
+            let mut a = start;
+            while !seen[a] {
+                seen[a] = true;
+                self.cycles.push(a);
+                a = target[a];
+            }
+            self.cycle_ptr.push(self.cycles.len());
+        }
+        self.scratch_target = target;
+        self.scratch_seen = seen;
+    }
+
+    /// Refactorises scaled values over the kept patterns and pivots. `x` is a zeroed
+    /// work vector of length `n`, left zeroed. Fails at the pivot position whose pivot
+    /// is zero or below the threshold.
+    fn refactor(
+        &mut self,
+        col_ptr: &[usize],
+        row_idx: &[usize],
+        vals: &[Complex64],
+        x: &mut [Complex64],
+    ) -> Result<(), usize> {
+        for j in 0..self.n {
+            let q = self.col_perm[j];
+            for s in col_ptr[q]..col_ptr[q + 1] {
+                x[row_idx[s]] = vals[s];
+            }
+            for t in self.u_ptr[j]..self.u_ptr[j + 1] {
+                let r = self.u_row[t];
+                let ukj = x[r];
+                x[r] = ZERO;
+                self.u_val[t] = ukj;
+                if ukj != ZERO {
+                    let k = self.u_pos[t];
+                    for l in self.l_ptr[k]..self.l_ptr[k + 1] {
+                        x[self.l_row[l]] -= self.l_val[l] * ukj;
+                    }
+                }
+            }
+            let r = self.row_perm[j];
+            let piv = x[r];
+            x[r] = ZERO;
+            let (lo, hi) = (self.l_ptr[j], self.l_ptr[j + 1]);
+            let mut m = 0.0f64;
+            for &i in &self.l_row[lo..hi] {
+                m = m.max(norm1(x[i]));
+            }
+            let p = norm1(piv);
+            if !(p > 0.0 && p.is_finite() && p >= PIVOT_THRESHOLD * m) {
+                x.fill(ZERO);
+                return Err(j);
+            }
+            let inv = piv.inv();
+            self.diag[j] = piv;
+            self.inv_diag[j] = inv;
+            for l in lo..hi {
+                let i = self.l_row[l];
+                self.l_val[l] = x[i] * inv;
+                x[i] = ZERO;
+            }
+        }
+        Ok(())
+    }
+
+    /// Pivot ratio, growth and smallest pivot of the current values; a zero or
+    /// non-finite pivot is an error at its column's unknown.
+    fn report(&self) -> Result<FactorReport, SolverError> {
+        let (mut dmin, mut dmax, mut at) = (f64::INFINITY, 0.0f64, 0);
+        for (j, &d) in self.diag.iter().enumerate() {
+            let v = norm1(d);
+            if !(v > 0.0 && v.is_finite()) {
+                return Err(SolverError::ZeroPivot {
+                    unknown: self.col_perm[j],
+                });
+            }
+            if v < dmin {
+                dmin = v;
+                at = self.col_perm[j];
+            }
+            dmax = dmax.max(v);
+        }
+        let umax = self.u_val.iter().fold(dmax, |m, &z| m.max(norm1(z)));
+        Ok(FactorReport {
+            pivot_ratio: if self.n == 0 { 1.0 } else { dmin / dmax },
+            growth: umax,
+            smallest_pivot_unknown: at,
+        })
+    }
+
+    /// Solves `A_s x = b` in place (`b` by original row in, `x` by original column out).
+    fn solve(&self, b: &mut [Complex64]) {
+        for j in 0..self.n {
+            let t = b[self.row_perm[j]];
+            if t != ZERO {
+                for l in self.l_ptr[j]..self.l_ptr[j + 1] {
+                    b[self.l_row[l]] -= self.l_val[l] * t;
+                }
+            }
+        }
+        for j in (0..self.n).rev() {
+            let r = self.row_perm[j];
+            let t = b[r] * self.inv_diag[j];
+            b[r] = t;
+            if t != ZERO {
+                for u in self.u_ptr[j]..self.u_ptr[j + 1] {
+                    b[self.u_row[u]] -= self.u_val[u] * t;
+                }
+            }
+        }
+        for w in self.cycle_ptr.windows(2) {
+            let cyc = &self.cycles[w[0]..w[1]];
+            // The value at cyc[k] belongs at cyc[k + 1] (and the last at cyc[0]).
+            let last = b[cyc[cyc.len() - 1]];
+            for k in (1..cyc.len()).rev() {
+                b[cyc[k]] = b[cyc[k - 1]];
+            }
+            b[cyc[0]] = last;
+        }
+    }
+
+    /// Solves `A_sᴴ y = z` (`z` by original column, `y` out by original row); `w` is
+    /// a work vector of length `n`.
+    fn solve_adjoint(&self, z: &mut [Complex64], w: &mut [Complex64]) {
+        for (j, wj) in w.iter_mut().enumerate() {
+            *wj = z[self.col_perm[j]];
+        }
+        // Uᴴ v = w (lower triangular, by columns of U as rows of Uᴴ).
+        for j in 0..self.n {
+            let mut s = w[j];
+            for t in self.u_ptr[j]..self.u_ptr[j + 1] {
+                s -= self.u_val[t].conj() * w[self.u_pos[t]];
+            }
+            w[j] = s * self.inv_diag[j].conj();
+        }
+        // Lᴴ y = v, y kept by original row.
+        for j in (0..self.n).rev() {
+            let mut s = w[j];
+            for l in self.l_ptr[j]..self.l_ptr[j + 1] {
+                s -= self.l_val[l].conj() * z[self.l_row[l]];
+            }
+            z[self.row_perm[j]] = s;
+        }
+    }
+
+    fn nnz(&self) -> usize {
+        self.l_row.len() + self.u_pos.len() + self.n
+    }
+}
+
+/// Which factors answer the solves.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Active {
+    None,
+    Kept,
+    Fresh,
+}
+
+/// Sparse complex LU with a symbolic analysis and pivot order computed once per
+/// system, power-of-two equilibration, and a fresh pivoting factorisation for the rare
+/// frequency where a kept pivot fails (see the module documentation).
+///
+/// ```
+/// use rolloff_mna::{Analyzer, SparseLu};
+/// use rolloff_netlist::{Circuit, ProbeKind};
+///
+/// let circuit = Circuit::builder()
+///     .vsrc("V1", "in", "gnd", 1.0)
+///     .resistor("R1", "in", "out", 1e3)
+///     .capacitor("C1", "out", "gnd", 1e-6)
+///     .build()
+///     .unwrap();
+/// let out = circuit.node("out").unwrap();
+/// let mut analyzer = Analyzer::<SparseLu>::with_solver(&circuit).unwrap();
+/// let fc = 1.0 / (2.0 * std::f64::consts::PI * 1e-3);
+/// let h = analyzer.transfer(&ProbeKind::Node(out), fc).unwrap();
+/// assert!((h.norm() - std::f64::consts::FRAC_1_SQRT_2).abs() < 1e-12);
+/// ```
+#[derive(Debug, Clone)]
+pub struct SparseLu {
+    n: usize,
+    symbolic: Option<SymbolicLu<usize>>,
+    kept: Option<Factors>,
+    fresh: Factors,
+    faer_lu: simplicial::SimplicialLu<usize, Complex64>,
+    row_perm: Vec<usize>,
+    row_perm_inv: Vec<usize>,
+    col_perm: Vec<usize>,
+    mem: Scratch,
+    active: Active,
+    vals: Vec<Complex64>,
+    row_scale: Vec<f64>,
+    col_scale: Vec<f64>,
+    x: Vec<Complex64>,
+    est_x: Vec<Complex64>,
+    est_s: Vec<Complex64>,
+    norm1: f64,
+}
+
+impl SparseLu {
+    /// Number of entries of `L + U` of the kept factorisation (`None` when the
+    /// reference factorisation failed).
+    pub fn factor_nnz(&self) -> Option<usize> {
+        self.kept.as_ref().map(Factors::nnz)
+    }
+
+    /// Whether the last factorisation used the kept pivots (false when it needed a
+    /// fresh pivoting factorisation).
+    pub fn last_used_kept_pivots(&self) -> bool {
+        self.active == Active::Kept
+    }
+
+    /// Fills `vals` with the equilibrated `Y(jω)` and records the scales.
+    fn fill_scaled(&mut self, csc: &CscValues, omega: f64) -> Result<(), SolverError> {
+        csc.fill(omega, &mut self.vals);
+        let (col_ptr, row_idx) = (csc.col_ptr(), csc.row_idx());
+        let rmax = &mut self.row_scale;
+        rmax.fill(0.0);
+        for (&r, &z) in row_idx.iter().zip(&self.vals) {
+            rmax[r] = rmax[r].max(norm1(z));
+        }
+        for (row, r) in rmax.iter_mut().enumerate() {
+            if !(*r > 0.0 && r.is_finite()) {
+                return Err(SolverError::ZeroRow { row });
+            }
+            *r = inverse_pow2(*r);
+        }
+        let mut norm = 0.0f64;
+        for col in 0..self.n {
+            let (lo, hi) = (col_ptr[col], col_ptr[col + 1]);
+            let mut m = 0.0f64;
+            for s in lo..hi {
+                let z = self.vals[s] * rmax[row_idx[s]];
+                self.vals[s] = z;
+                m = m.max(norm1(z));
+            }
+            let cs = if m > 0.0 { inverse_pow2(m) } else { 1.0 };
+            self.col_scale[col] = cs;
+            let mut sum = 0.0;
+            for z in &mut self.vals[lo..hi] {
+                *z *= cs;
+                sum += norm1(*z);
+            }
+            norm = norm.max(sum);
+        }
+        self.norm1 = norm;
+        Ok(())
+    }
+
+    /// A fresh partial-pivoting factorisation of the scaled values (faer, with the
+    /// kept column order) into `fresh`.
+    fn factor_fresh(&mut self, csc: &CscValues) -> Result<FactorReport, SolverError> {
+        self.active = Active::None;
+        let Some(symbolic) = &self.symbolic else {
+            return Err(SolverError::ZeroPivot { unknown: 0 });
+        };
+        let n = self.n;
+        let pattern =
+            SymbolicSparseColMatRef::new_checked(n, n, csc.col_ptr(), None, csc.row_idx());
+        let a = SparseColMatRef::new(pattern, &self.vals);
+        let Some(mem) = self.mem.0.as_mut() else {
+            return Err(SolverError::ZeroPivot { unknown: 0 });
+        };
+        let col_perm = symbolic.col_perm();
+        match simplicial::factorize_simplicial_numeric_lu(
+            &mut self.row_perm,
+            &mut self.row_perm_inv,
+            &mut self.faer_lu,
+            a,
+            col_perm,
+            MemStack::new(mem),
+        ) {
+            Ok(()) => {}
+            Err(faer::sparse::linalg::LuError::SymbolicSingular { index }) => {
+                return Err(SolverError::ZeroPivot {
+                    unknown: col_perm.arrays().0.get(index).copied().unwrap_or(0),
+                });
+            }
+            Err(_) => return Err(SolverError::ZeroPivot { unknown: 0 }),
+        }
+        self.fresh
+            .load(&self.faer_lu, &self.row_perm, &self.col_perm);
+        let report = self.fresh.report()?;
+        self.active = Active::Fresh;
+        Ok(report)
+    }
+}
+
+/// faer's work memory; a clone gets its own buffer of the same size.
+struct Scratch(Option<MemBuffer>, faer::dyn_stack::StackReq);
+
+impl Scratch {
+    fn new(req: faer::dyn_stack::StackReq) -> Scratch {
+        Scratch(MemBuffer::try_new(req).ok(), req)
+    }
+}
+
+impl std::fmt::Debug for Scratch {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_tuple("Scratch").field(&self.1).finish()
+    }
+}
+
+impl Clone for Scratch {
+    fn clone(&self) -> Scratch {
+        Scratch::new(self.1)
+    }
+}
+
+/// The frequency (rad/s) at which `G` and `ωC` have the same total size: where the
+/// kept pivot order is made.
+fn reference_omega(csc: &CscValues) -> f64 {
+    let g: f64 = csc.g_values().iter().map(|v| v.abs()).sum();
+    let c: f64 = csc.c_values().iter().map(|v| v.abs()).sum();
+    if c > 0.0 && g > 0.0 && (g / c).is_finite() {
+        g / c
+    } else {
+        1.0
+    }
+}
+
+impl SparseLu {
+    /// The solver for a compressed pattern (as [`LinearSolver::for_system`]).
+    pub fn for_csc(csc: &CscValues) -> SparseLu {
+        let n = csc.dim();
+        let mut lu = SparseLu {
+            n,
+            symbolic: None,
+            kept: None,
+            fresh: Factors::default(),
+            faer_lu: simplicial::SimplicialLu::new(),
+            row_perm: vec![0; n],
+            row_perm_inv: vec![0; n],
+            col_perm: Vec::new(),
+            mem: Scratch::new(simplicial::factorize_simplicial_numeric_lu_scratch::<
+                usize,
+                Complex64,
+            >(n, n)),
+            active: Active::None,
+            vals: vec![ZERO; csc.nnz()],
+            row_scale: vec![1.0; n],
+            col_scale: vec![1.0; n],
+            x: vec![ZERO; n],
+            est_x: vec![ZERO; n],
+            est_s: vec![ZERO; n],
+            norm1: 0.0,
+        };
+        let pattern =
+            SymbolicSparseColMatRef::new_checked(n, n, csc.col_ptr(), None, csc.row_idx());
+        let params = LuSymbolicParams {
+            supernodal_flop_ratio_threshold: SupernodalThreshold::FORCE_SIMPLICIAL,
+            ..LuSymbolicParams::default()
+        };
+        lu.symbolic = factorize_symbolic_lu(pattern, params).ok();
+        if let Some(s) = &lu.symbolic {
+            lu.col_perm = s.col_perm().arrays().0.to_vec();
+        }
+        // The kept pivots: from the first reference frequency that factorises.
+        let w = reference_omega(csc);
+        for omega in [w, w * 1e3, w * 1e-3, 1.0] {
+            if lu.fill_scaled(csc, omega).is_ok() && lu.factor_fresh(csc).is_ok() {
+                lu.kept = Some(lu.fresh.clone());
+                break;
+            }
+        }
+        lu.active = Active::None;
+        lu
+    }
+
+    /// Factorises `Y(jω)` of a compressed pattern (as [`LinearSolver::factor`]).
+    ///
+    /// # Errors
+    /// [`SolverError`] when the matrix is exactly singular.
+    pub fn factor_csc(&mut self, csc: &CscValues, omega: f64) -> Result<FactorReport, SolverError> {
+        self.active = Active::None;
+        self.fill_scaled(csc, omega)?;
+        if let Some(kept) = &mut self.kept
+            && kept
+                .refactor(csc.col_ptr(), csc.row_idx(), &self.vals, &mut self.x)
+                .is_ok()
+            && let Ok(report) = kept.report()
+        {
+            self.active = Active::Kept;
+            return Ok(report);
+        }
+        self.factor_fresh(csc)
+    }
+}
+
+impl LinearSolver for SparseLu {
+    fn for_system(system: &System) -> Self {
+        SparseLu::for_csc(system.csc())
+    }
+
+    fn factor(&mut self, system: &System, omega: f64) -> Result<FactorReport, SolverError> {
+        self.factor_csc(system.csc(), omega)
+    }
+
+    fn solve_in_place(&self, rhs: &mut [Complex64]) {
+        let f = match self.active {
+            Active::Kept => self.kept.as_ref(),
+            Active::Fresh => Some(&self.fresh),
+            Active::None => None,
+        };
+        let Some(f) = f else {
+            return;
+        };
+        for (b, &r) in rhs.iter_mut().zip(&self.row_scale) {
+            *b *= r;
+        }
+        f.solve(rhs);
+        for (b, &c) in rhs.iter_mut().zip(&self.col_scale) {
+            *b *= c;
+        }
+    }
+
+    fn condition_estimate(&mut self) -> f64 {
+        let f = match self.active {
+            Active::Kept => self.kept.as_ref(),
+            Active::Fresh => Some(&self.fresh),
+            Active::None => None,
+        };
+        let Some(f) = f else {
+            return f64::INFINITY;
+        };
+        self.norm1 * inverse_norm1_estimate(f, &mut self.est_x, &mut self.est_s, &mut self.x)
+    }
+}
+
+/// Hager/Higham estimate of `‖A_s⁻¹‖₁` from the factors (as the dense path's).
+fn inverse_norm1_estimate(
+    f: &Factors,
+    x: &mut [Complex64],
+    s: &mut [Complex64],
+    w: &mut [Complex64],
+) -> f64 {
+    let n = f.n;
+    if n == 0 {
+        return 0.0;
+    }
+    x.fill(Complex64::new(1.0 / n as f64, 0.0));
+    f.solve(x);
+    let mut est: f64 = x.iter().map(|z| z.norm()).sum();
+    let mut last_j = usize::MAX;
+    for _ in 0..5 {
+        for (si, xi) in s.iter_mut().zip(x.iter()) {
+            let m = xi.norm();
+            *si = if m > 0.0 {
+                xi / m
+            } else {
+                Complex64::new(1.0, 0.0)
+            };
+        }
+        f.solve_adjoint(s, w);
+        let mut j = 0;
+        let mut best = -1.0;
+        for (i, z) in s.iter().enumerate() {
+            if z.norm() > best {
+                best = z.norm();
+                j = i;
+            }
+        }
+        if j == last_j {
+            break;
+        }
+        last_j = j;
+        x.fill(ZERO);
+        x[j] = Complex64::new(1.0, 0.0);
+        f.solve(x);
+        let new: f64 = x.iter().map(|z| z.norm()).sum();
+        if new <= est {
+            break;
+        }
+        est = new;
+    }
+    let denom = (n.max(2) - 1) as f64;
+    for (i, xi) in x.iter_mut().enumerate() {
+        let sgn = if i % 2 == 0 { 1.0 } else { -1.0 };
+        *xi = Complex64::new(sgn * (1.0 + i as f64 / denom), 0.0);
+    }
+    f.solve(x);
+    let alt: f64 = 2.0 * x.iter().map(|z| z.norm()).sum::<f64>() / (3.0 * n as f64);
+    w.fill(ZERO);
+    est.max(alt)
+}
+
+/// How [`AutoLu`] picks its kernel.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum SolverChoice {
+    /// By size and fill (see [`AutoLu`]).
+    #[default]
+    Auto,
+    /// Always the dense LU.
+    Dense,
+    /// Always the sparse LU.
+    Sparse,
+}
+
+/// Up to this many unknowns the dense LU is used without looking at the pattern
+/// (measured crossover on ladder-like networks, see `docs/performance.md`).
+pub const DENSE_ALWAYS_MAX: usize = 12;
+
+/// Above this many unknowns the sparse LU is always used.
+pub const DENSE_NEVER_ABOVE: usize = 200;
+
+/// The solver the [`crate::Analyzer`] uses by default: the dense LU for small systems,
+/// the sparse LU for large ones, chosen once per system.
+///
+/// With [`SolverChoice::Auto`], systems of at most [`DENSE_ALWAYS_MAX`] unknowns go
+/// dense and those above [`DENSE_NEVER_ABOVE`] go sparse; in between, the sparse
+/// symbolic analysis is made and the dense LU is kept only when `L + U` would hold more
+/// than a quarter of `n²` entries (little sparsity left to exploit).
+#[derive(Debug, Clone)]
+pub struct AutoLu {
+    inner: AutoInner,
+}
+
+#[derive(Debug, Clone)]
+enum AutoInner {
+    Dense(DenseLu),
+    Sparse(Box<SparseLu>),
+}
+
+impl AutoLu {
+    /// The solver for a system, with the kernel chosen as `choice` says.
+    pub fn with_choice(system: &System, choice: SolverChoice) -> AutoLu {
+        let n = system.dim();
+        let inner = match choice {
+            SolverChoice::Dense => AutoInner::Dense(DenseLu::with_dim(n)),
+            SolverChoice::Sparse => AutoInner::Sparse(Box::new(SparseLu::for_system(system))),
+            SolverChoice::Auto if n <= DENSE_ALWAYS_MAX => AutoInner::Dense(DenseLu::with_dim(n)),
+            SolverChoice::Auto => {
+                let sparse = SparseLu::for_system(system);
+                let dense_fill = sparse.factor_nnz().is_some_and(|k| 4 * k > n * n);
+                if n <= DENSE_NEVER_ABOVE && dense_fill {
+                    AutoInner::Dense(DenseLu::with_dim(n))
+                } else {
+                    AutoInner::Sparse(Box::new(sparse))
+                }
+            }
+        };
+        AutoLu { inner }
+    }
+
+    /// Whether the sparse kernel was chosen.
+    pub fn is_sparse(&self) -> bool {
+        matches!(self.inner, AutoInner::Sparse(_))
+    }
+}
+
+impl LinearSolver for AutoLu {
+    fn for_system(system: &System) -> Self {
+        AutoLu::with_choice(system, SolverChoice::Auto)
+    }
+
+    fn factor(&mut self, system: &System, omega: f64) -> Result<FactorReport, SolverError> {
+        match &mut self.inner {
+            AutoInner::Dense(d) => d.factor(system, omega),
+            AutoInner::Sparse(s) => s.factor(system, omega),
+        }
+    }
+
+    fn solve_in_place(&self, rhs: &mut [Complex64]) {
+        match &self.inner {
+            AutoInner::Dense(d) => d.solve_in_place(rhs),
+            AutoInner::Sparse(s) => s.solve_in_place(rhs),
+        }
+    }
+
+    fn condition_estimate(&mut self) -> f64 {
+        match &mut self.inner {
+            AutoInner::Dense(d) => d.condition_estimate(),
+            AutoInner::Sparse(s) => s.condition_estimate(),
+        }
+    }
+}
+
+/// `Y(jω)` with one equation row replaced by `x[col] = …` (a unit entry at `col`),
+/// solved for a unit right-hand side in that row: the op-amp feedback test. Dense for
+/// small systems, sparse (memory linear in the circuit) for large ones.
+pub(crate) enum RowReplaced {
+    Dense {
+        lu: DenseLu,
+        row: usize,
+        col: usize,
+    },
+    Sparse {
+        csc: CscValues,
+        lu: Box<SparseLu>,
+        row: usize,
+    },
+}
+
+impl RowReplaced {
+    pub(crate) fn new(system: &System, row: usize, col: usize) -> RowReplaced {
+        let n = system.dim();
+        if n <= DENSE_NEVER_ABOVE {
+            return RowReplaced::Dense {
+                lu: DenseLu::with_dim(n),
+                row,
+                col,
+            };
+        }
+        let entries: Vec<StampEntry> = system
+            .entries()
+            .iter()
+            .filter(|e| e.row != row)
+            .copied()
+            .chain(std::iter::once(StampEntry {
+                row,
+                col,
+                matrix: Matrix::G,
+                coef: Coef::Const(1.0),
+            }))
+            .collect();
+        let mut csc = CscValues::new(n, &entries);
+        csc.refresh(&entries, system.params());
+        let lu = Box::new(SparseLu::for_csc(&csc));
+        RowReplaced::Sparse { csc, lu, row }
+    }
+
+    /// Solves at `omega` into `rhs` (resized to `dim`); false when singular there.
+    pub(crate) fn solve(&mut self, system: &System, omega: f64, rhs: &mut Vec<Complex64>) -> bool {
+        let n = system.dim();
+        rhs.clear();
+        rhs.resize(n, ZERO);
+        match self {
+            RowReplaced::Dense { lu, row, col } => {
+                system.fill_dense(omega, lu.buffer_mut());
+                let buf = lu.buffer_mut();
+                for c in buf.chunks_exact_mut(n) {
+                    c[*row] = ZERO;
+                }
+                buf[*col * n + *row] = Complex64::new(1.0, 0.0);
+                if lu.factor_buffer().is_err() {
+                    return false;
+                }
+                rhs[*row] = Complex64::new(1.0, 0.0);
+                lu.solve_in_place(rhs);
+            }
+            RowReplaced::Sparse { csc, lu, row } => {
+                if lu.factor_csc(csc, omega).is_err() {
+                    return false;
+                }
+                rhs[*row] = Complex64::new(1.0, 0.0);
+                lu.solve_in_place(rhs);
+            }
+        }
+        true
+    }
+}
