@@ -86,8 +86,9 @@ impl Analyzer<AutoLu> {
     /// path to `gnd` ([`MnaError::FloatingNode`]), nodes fed only by current sources
     /// ([`MnaError::CurrentCutSet`]), a loop of voltage sources
     /// ([`MnaError::SourceLoop`]), an ideal op-amp without feedback
-    /// ([`MnaError::OpAmpNoFeedback`]); or a part value that is not finite (and
-    /// positive where it must be) ([`MnaError::BadValue`]).
+    /// ([`MnaError::OpAmpNoFeedback`]); a part value that is not finite (and
+    /// positive where it must be) ([`MnaError::BadValue`]); a node or drive id that is
+    /// not in the circuit ([`MnaError::UnknownNode`], [`MnaError::UnknownPart`]).
     pub fn new(circuit: &Circuit) -> Result<Analyzer<AutoLu>, MnaError> {
         Analyzer::with_choice(circuit, SolverChoice::Auto)
     }
@@ -115,6 +116,7 @@ impl<S: LinearSolver> Analyzer<S> {
     }
 
     fn build(circuit: &Circuit, make: impl FnOnce(&System) -> S) -> Result<Analyzer<S>, MnaError> {
+        check_ids(circuit)?;
         topology::check(circuit, false)?;
         let system = System::new(circuit);
         for p in system.params() {
@@ -163,6 +165,11 @@ impl<S: LinearSolver> Analyzer<S> {
     /// The stamped system.
     pub fn system(&self) -> &System {
         &self.system
+    }
+
+    /// The linear solver (for its own statistics).
+    pub fn solver(&self) -> &S {
+        &self.solver
     }
 
     /// Warnings found so far: positive op-amp feedback (at construction) and
@@ -779,6 +786,25 @@ impl<S: LinearSolver> Analyzer<S> {
                 break;
             }
         }
+    }
+}
+
+/// Every id a part or the drive holds must index into the circuit (the builder does
+/// not check node ids given to `part`).
+fn check_ids(circuit: &Circuit) -> Result<(), MnaError> {
+    for part in &circuit.parts {
+        if let Some(bad) = part
+            .kind
+            .nodes()
+            .into_iter()
+            .find(|n| n.index() >= circuit.nodes.len())
+        {
+            return Err(MnaError::UnknownNode(bad.0));
+        }
+    }
+    match circuit.drive {
+        Some(d) if d.index() >= circuit.parts.len() => Err(MnaError::UnknownPart(d.0)),
+        _ => Ok(()),
     }
 }
 

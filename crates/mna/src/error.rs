@@ -28,8 +28,9 @@ pub enum MnaError {
     },
     /// A set of nodes joined to the rest only through current sources: the currents
     /// into it are forced, its voltage is undefined.
-    #[error("nodes {} are connected to the rest of the circuit only through the current sources {}{}",
-        quoted(nodes), quoted(parts), if *dc_only { " at DC (capacitors open)" } else { "" })]
+    #[error("{} connected to the rest of the circuit only through the current {} {}{}",
+        plural(nodes, "node", "is", "nodes", "are"), if parts.len() == 1 { "source" } else { "sources" },
+        quoted(parts), if *dc_only { " at DC (capacitors open)" } else { "" })]
     CurrentCutSet {
         /// The current sources (`isrc` without `rp`, `vccs` outputs) in the cut.
         parts: Vec<String>,
@@ -147,6 +148,14 @@ fn condition_text(condition: Option<f64>) -> String {
     match condition {
         Some(k) => format!(" (condition estimate {k:.3e}: no correct digit is left)"),
         None => " (a zero pivot: the equations are dependent)".to_string(),
+    }
+}
+
+fn plural(names: &[String], one: &str, is: &str, many: &str, are: &str) -> String {
+    if names.len() == 1 {
+        format!("{one} {} {is}", quoted(names))
+    } else {
+        format!("{many} {} {are}", quoted(names))
     }
 }
 

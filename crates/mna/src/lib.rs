@@ -65,6 +65,6 @@ pub use bias::BiasReport;
 pub use error::{BiasWarning, MnaError, MnaWarning};
 pub use solver::{DenseLu, FactorReport, LinearSolver, SolverError};
 pub use sparse::{
-    AutoLu, CscValues, DENSE_ALWAYS_MAX, DENSE_NEVER_ABOVE, PIVOT_THRESHOLD, SolverChoice, SparseLu,
+    AutoLu, DENSE_ALWAYS_MAX, DENSE_NEVER_ABOVE, PIVOT_THRESHOLD, SolverChoice, SparseLu,
 };
 pub use system::{Coef, Matrix, ParamRole, Parameter, SourceStamp, StampEntry, System, Unknown};

@@ -28,8 +28,6 @@
 //! so the pivot ratio, the pivot growth and the condition estimate mean the same on
 //! both paths. Memory is linear in the number of stamp entries and of factor entries.
 
-use std::sync::OnceLock;
-
 use faer::dyn_stack::{MemBuffer, MemStack};
 use faer::sparse::linalg::SupernodalThreshold;
 use faer::sparse::linalg::lu::{LuSymbolicParams, SymbolicLu, factorize_symbolic_lu, simplicial};
@@ -45,26 +43,75 @@ const ZERO: Complex64 = Complex64::new(0.0, 0.0);
 /// the entries below it in its column (`|re| + |im|` magnitudes).
 pub const PIVOT_THRESHOLD: f64 = 1e-2;
 
-/// The stamp pattern in compressed sparse columns with the numeric `G` and `C` values
-/// at each position (several stamp entries at one position are summed).
-///
-/// Row indices are sorted within each column. Memory is linear in the number of stamp
-/// entries; the dense `G` and `C` are built only when asked for.
+/// A borrowed compressed-column `Y(jω) = G + jωC`: the pattern (row indices sorted
+/// within each column) with `G` and `C` at each position.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct CscView<'a> {
+    dim: usize,
+    col_ptr: &'a [usize],
+    row_idx: &'a [usize],
+    g: &'a [f64],
+    c: &'a [f64],
+}
+
+impl<'a> CscView<'a> {
+    /// The system's pattern and values.
+    pub(crate) fn of(system: &'a System) -> CscView<'a> {
+        let (col_ptr, row_idx) = system.csc_pattern();
+        CscView {
+            dim: system.dim(),
+            col_ptr,
+            row_idx,
+            g: system.g_values(),
+            c: system.c_values(),
+        }
+    }
+
+    fn dim(&self) -> usize {
+        self.dim
+    }
+
+    fn nnz(&self) -> usize {
+        self.row_idx.len()
+    }
+
+    fn col_ptr(&self) -> &'a [usize] {
+        self.col_ptr
+    }
+
+    fn row_idx(&self) -> &'a [usize] {
+        self.row_idx
+    }
+
+    fn g_values(&self) -> &'a [f64] {
+        self.g
+    }
+
+    fn c_values(&self) -> &'a [f64] {
+        self.c
+    }
+
+    fn fill(&self, omega: f64, out: &mut [Complex64]) {
+        for ((o, &g), &c) in out.iter_mut().zip(self.g).zip(self.c) {
+            *o = Complex64::new(g, omega * c);
+        }
+    }
+}
+
+/// An owned compressed-column pattern with values, for a matrix other than the
+/// system's own (the op-amp feedback test).
 #[derive(Debug, Clone, Default)]
-pub struct CscValues {
+pub(crate) struct CscValues {
     dim: usize,
     col_ptr: Vec<usize>,
     row_idx: Vec<usize>,
-    slot: Vec<usize>,
     g: Vec<f64>,
     c: Vec<f64>,
-    dense: OnceLock<(Vec<f64>, Vec<f64>)>,
 }
 
 impl CscValues {
-    /// The compressed pattern of `entries` for a `dim × dim` system (values zero until
-    /// [`CscValues::refresh`]).
-    pub fn new(dim: usize, entries: &[StampEntry]) -> CscValues {
+    /// The compressed pattern of `entries` with their values summed per position.
+    pub(crate) fn new(dim: usize, entries: &[StampEntry], params: &[Parameter]) -> CscValues {
         let mut counts = vec![0usize; dim + 1];
         let mut pos: Vec<(usize, usize)> = entries.iter().map(|e| (e.col, e.row)).collect();
         pos.sort_unstable();
@@ -76,119 +123,37 @@ impl CscValues {
             counts[k + 1] += counts[k];
         }
         let row_idx: Vec<usize> = pos.iter().map(|&(_, r)| r).collect();
-        let slot = entries
-            .iter()
-            .map(|e| {
-                let (lo, hi) = (counts[e.col], counts[e.col + 1]);
-                lo + row_idx[lo..hi].partition_point(|&r| r < e.row)
-            })
-            .collect();
         let nnz = row_idx.len();
-        CscValues {
-            dim,
-            col_ptr: counts,
-            row_idx,
-            slot,
-            g: vec![0.0; nnz],
-            c: vec![0.0; nnz],
-            dense: OnceLock::new(),
-        }
-    }
-
-    /// Recomputes the values from the entries' coefficients and the parameters.
-    pub fn refresh(&mut self, entries: &[StampEntry], params: &[Parameter]) {
-        self.g.fill(0.0);
-        self.c.fill(0.0);
-        for (e, &s) in entries.iter().zip(&self.slot) {
+        let (mut g, mut c) = (vec![0.0; nnz], vec![0.0; nnz]);
+        for e in entries {
+            let (lo, hi) = (counts[e.col], counts[e.col + 1]);
+            let s = lo + row_idx[lo..hi].partition_point(|&r| r < e.row);
             let v = match e.coef {
                 Coef::Const(v) => v,
                 Coef::Param { index, scale } => scale * params[index].value,
                 Coef::Reciprocal { index, scale } => scale / params[index].value,
             };
             match e.matrix {
-                Matrix::G => self.g[s] += v,
-                Matrix::C => self.c[s] += v,
+                Matrix::G => g[s] += v,
+                Matrix::C => c[s] += v,
             }
         }
-        self.dense = OnceLock::new();
-    }
-
-    /// Number of unknowns.
-    pub fn dim(&self) -> usize {
-        self.dim
-    }
-
-    /// Number of stored positions.
-    pub fn nnz(&self) -> usize {
-        self.row_idx.len()
-    }
-
-    /// Column pointers (`dim + 1` of them).
-    pub fn col_ptr(&self) -> &[usize] {
-        &self.col_ptr
-    }
-
-    /// Row indices, sorted within each column.
-    pub fn row_idx(&self) -> &[usize] {
-        &self.row_idx
-    }
-
-    /// `G` at each stored position.
-    pub fn g_values(&self) -> &[f64] {
-        &self.g
-    }
-
-    /// `C` at each stored position.
-    pub fn c_values(&self) -> &[f64] {
-        &self.c
-    }
-
-    /// Writes the values of `Y(jω) = G + jωC` at the stored positions into `out`.
-    pub fn fill(&self, omega: f64, out: &mut [Complex64]) {
-        for ((o, &g), &c) in out.iter_mut().zip(&self.g).zip(&self.c) {
-            *o = Complex64::new(g, omega * c);
+        CscValues {
+            dim,
+            col_ptr: counts,
+            row_idx,
+            g,
+            c,
         }
     }
 
-    /// Writes the dense `Y(jω)` (column-major) into `y`, which has `dim²` elements.
-    pub(crate) fn fill_dense(&self, omega: f64, y: &mut [Complex64]) {
-        y.fill(ZERO);
-        let n = self.dim;
-        for col in 0..n {
-            for s in self.col_ptr[col]..self.col_ptr[col + 1] {
-                y[col * n + self.row_idx[s]] = Complex64::new(self.g[s], omega * self.c[s]);
-            }
-        }
-    }
-
-    /// The dense `(G, C)`, column-major, built once on first use.
-    pub(crate) fn dense(&self) -> &(Vec<f64>, Vec<f64>) {
-        self.dense.get_or_init(|| {
-            let n = self.dim;
-            let (mut g, mut c) = (vec![0.0; n * n], vec![0.0; n * n]);
-            for col in 0..n {
-                for s in self.col_ptr[col]..self.col_ptr[col + 1] {
-                    g[col * n + self.row_idx[s]] = self.g[s];
-                    c[col * n + self.row_idx[s]] = self.c[s];
-                }
-            }
-            (g, c)
-        })
-    }
-
-    /// `out = C · x`.
-    pub(crate) fn c_times(&self, x: &[Complex64], out: &mut [Complex64]) {
-        out.fill(ZERO);
-        for (col, &xj) in x.iter().enumerate() {
-            if xj == ZERO {
-                continue;
-            }
-            for s in self.col_ptr[col]..self.col_ptr[col + 1] {
-                let c = self.c[s];
-                if c != 0.0 {
-                    out[self.row_idx[s]] += xj * c;
-                }
-            }
+    fn view(&self) -> CscView<'_> {
+        CscView {
+            dim: self.dim,
+            col_ptr: &self.col_ptr,
+            row_idx: &self.row_idx,
+            g: &self.g,
+            c: &self.c,
         }
     }
 }
@@ -508,7 +473,7 @@ impl SparseLu {
     }
 
     /// Fills `vals` with the equilibrated `Y(jω)` and records the scales.
-    fn fill_scaled(&mut self, csc: &CscValues, omega: f64) -> Result<(), SolverError> {
+    fn fill_scaled(&mut self, csc: &CscView<'_>, omega: f64) -> Result<(), SolverError> {
         csc.fill(omega, &mut self.vals);
         let (col_ptr, row_idx) = (csc.col_ptr(), csc.row_idx());
         let rmax = &mut self.row_scale;
@@ -546,7 +511,7 @@ impl SparseLu {
 
     /// A fresh partial-pivoting factorisation of the scaled values (faer, with the
     /// kept column order) into `fresh`.
-    fn factor_fresh(&mut self, csc: &CscValues) -> Result<FactorReport, SolverError> {
+    fn factor_fresh(&mut self, csc: &CscView<'_>) -> Result<FactorReport, SolverError> {
         self.active = Active::None;
         let Some(symbolic) = &self.symbolic else {
             return Err(SolverError::ZeroPivot { unknown: 0 });
@@ -606,7 +571,7 @@ impl Clone for Scratch {
 
 /// The frequency (rad/s) at which `G` and `ωC` have the same total size: where the
 /// kept pivot order is made.
-fn reference_omega(csc: &CscValues) -> f64 {
+fn reference_omega(csc: &CscView<'_>) -> f64 {
     let g: f64 = csc.g_values().iter().map(|v| v.abs()).sum();
     let c: f64 = csc.c_values().iter().map(|v| v.abs()).sum();
     if c > 0.0 && g > 0.0 && (g / c).is_finite() {
@@ -618,7 +583,7 @@ fn reference_omega(csc: &CscValues) -> f64 {
 
 impl SparseLu {
     /// The solver for a compressed pattern (as [`LinearSolver::for_system`]).
-    pub fn for_csc(csc: &CscValues) -> SparseLu {
+    pub(crate) fn for_csc(csc: &CscView<'_>) -> SparseLu {
         let n = csc.dim();
         let mut lu = SparseLu {
             n,
@@ -668,7 +633,11 @@ impl SparseLu {
     ///
     /// # Errors
     /// [`SolverError`] when the matrix is exactly singular.
-    pub fn factor_csc(&mut self, csc: &CscValues, omega: f64) -> Result<FactorReport, SolverError> {
+    pub(crate) fn factor_csc(
+        &mut self,
+        csc: &CscView<'_>,
+        omega: f64,
+    ) -> Result<FactorReport, SolverError> {
         self.active = Active::None;
         self.fill_scaled(csc, omega)?;
         if let Some(kept) = &mut self.kept
@@ -686,11 +655,11 @@ impl SparseLu {
 
 impl LinearSolver for SparseLu {
     fn for_system(system: &System) -> Self {
-        SparseLu::for_csc(system.csc())
+        SparseLu::for_csc(&CscView::of(system))
     }
 
     fn factor(&mut self, system: &System, omega: f64) -> Result<FactorReport, SolverError> {
-        self.factor_csc(system.csc(), omega)
+        self.factor_csc(&CscView::of(system), omega)
     }
 
     fn solve_in_place(&self, rhs: &mut [Complex64]) {
@@ -910,9 +879,8 @@ impl RowReplaced {
                 coef: Coef::Const(1.0),
             }))
             .collect();
-        let mut csc = CscValues::new(n, &entries);
-        csc.refresh(&entries, system.params());
-        let lu = Box::new(SparseLu::for_csc(&csc));
+        let csc = CscValues::new(n, &entries, system.params());
+        let lu = Box::new(SparseLu::for_csc(&csc.view()));
         RowReplaced::Sparse { csc, lu, row }
     }
 
@@ -936,7 +904,7 @@ impl RowReplaced {
                 lu.solve_in_place(rhs);
             }
             RowReplaced::Sparse { csc, lu, row } => {
-                if lu.factor_csc(csc, omega).is_err() {
+                if lu.factor_csc(&csc.view(), omega).is_err() {
                     return false;
                 }
                 rhs[*row] = Complex64::new(1.0, 0.0);

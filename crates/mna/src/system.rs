@@ -143,7 +143,15 @@ pub struct System {
     main_param: Vec<Option<usize>>,
     branch: Vec<Option<usize>>,
     sources: Vec<SourceStamp>,
-    csc: crate::sparse::CscValues,
+    /// Column pointers of the compressed-column pattern (`dim + 1` entries).
+    col_ptr: Vec<usize>,
+    /// Row indices of the pattern, column by column, sorted within each column.
+    row_idx: Vec<usize>,
+    /// For each stamp entry, its position in the pattern.
+    entry_slot: Vec<usize>,
+    /// `G` and `C` values on the pattern.
+    g: Vec<f64>,
+    c: Vec<f64>,
 }
 
 /// The unknown index of a node, `None` for `gnd`.
@@ -386,17 +394,37 @@ impl System {
             }
         }
         let dim = unknowns.len();
+        let entries = st.entries;
+        let mut positions: Vec<(usize, usize)> = entries.iter().map(|e| (e.col, e.row)).collect();
+        positions.sort_unstable();
+        positions.dedup();
+        let mut col_ptr = vec![0; dim + 1];
+        for &(col, _) in &positions {
+            col_ptr[col + 1] += 1;
+        }
+        for j in 0..dim {
+            col_ptr[j + 1] += col_ptr[j];
+        }
+        let row_idx: Vec<usize> = positions.iter().map(|&(_, row)| row).collect();
+        let entry_slot = entries
+            .iter()
+            .map(|e| positions.partition_point(|&p| p < (e.col, e.row)))
+            .collect();
+        let nnz = positions.len();
         let mut system = System {
             dim,
             unknowns,
-            entries: st.entries,
+            entries,
             params,
             main_param,
             branch,
             sources,
-            csc: crate::sparse::CscValues::default(),
+            col_ptr,
+            row_idx,
+            entry_slot,
+            g: vec![0.0; nnz],
+            c: vec![0.0; nnz],
         };
-        system.csc = crate::sparse::CscValues::new(dim, &system.entries);
         system.refresh_numeric();
         system
     }
@@ -417,12 +445,43 @@ impl System {
     }
 
     /// The distinct `(row, col)` positions of the pattern (for a sparse solver's
-    /// symbolic analysis), sorted column-major.
+    /// symbolic analysis), column-major: the order of [`System::g_values`].
     pub fn pattern(&self) -> Vec<(usize, usize)> {
-        let mut p: Vec<(usize, usize)> = self.entries.iter().map(|e| (e.row, e.col)).collect();
-        p.sort_unstable_by_key(|&(r, c)| (c, r));
-        p.dedup();
-        p
+        (0..self.dim)
+            .flat_map(|j| {
+                self.row_idx[self.col_ptr[j]..self.col_ptr[j + 1]]
+                    .iter()
+                    .map(move |&i| (i, j))
+            })
+            .collect()
+    }
+
+    /// The pattern in compressed-column form: column pointers (`dim + 1` of them) and
+    /// row indices, sorted within each column.
+    pub fn csc_pattern(&self) -> (&[usize], &[usize]) {
+        (&self.col_ptr, &self.row_idx)
+    }
+
+    /// The values of `G` on the pattern.
+    pub fn g_values(&self) -> &[f64] {
+        &self.g
+    }
+
+    /// The values of `C` on the pattern.
+    pub fn c_values(&self) -> &[f64] {
+        &self.c
+    }
+
+    /// Writes `G + jωC` on the pattern into `values` (one per position).
+    ///
+    /// # Panics
+    /// If `values` does not have one element per pattern position (a programming
+    /// error).
+    pub fn fill_values(&self, omega: f64, values: &mut [Complex64]) {
+        assert_eq!(values.len(), self.g.len(), "value buffer size");
+        for ((v, &g), &c) in values.iter_mut().zip(&self.g).zip(&self.c) {
+            *v = Complex64::new(g, omega * c);
+        }
     }
 
     /// The parameter vector.
@@ -460,42 +519,63 @@ impl System {
         self.params[index].value
     }
 
-    /// Recomputes the numeric `G` and `C` values from the pattern and the parameters.
+    /// Recomputes the dense numeric `G` and `C` from the pattern and the parameters.
     fn refresh_numeric(&mut self) {
-        self.csc.refresh(&self.entries, &self.params);
+        let System {
+            entries,
+            entry_slot,
+            params,
+            g,
+            c,
+            ..
+        } = self;
+        g.fill(0.0);
+        c.fill(0.0);
+        for (e, &slot) in entries.iter().zip(entry_slot.iter()) {
+            let v = match e.coef {
+                Coef::Const(v) => v,
+                Coef::Param { index, scale } => scale * params[index].value,
+                Coef::Reciprocal { index, scale } => scale / params[index].value,
+            };
+            let target = match e.matrix {
+                Matrix::G => &mut *g,
+                Matrix::C => &mut *c,
+            };
+            target[slot] += v;
+        }
     }
 
-    /// The compressed-column form of the pattern with the numeric `G` and `C` values
-    /// (memory linear in the circuit; the sparse solver reads it).
-    pub fn csc(&self) -> &crate::sparse::CscValues {
-        &self.csc
-    }
-
-    /// The dense conductance matrix `G`, column-major `dim × dim`.
-    ///
-    /// Built on first use (and after a value change) for the dense path and for
-    /// diagnostics; the sparse path never calls it, so large systems never hold `dim²`.
-    pub fn g_dense(&self) -> &[f64] {
-        &self.csc.dense().0
-    }
-
-    /// The dense susceptance matrix `C`, column-major `dim × dim` (built on first use,
-    /// as [`System::g_dense`]).
-    pub fn c_dense(&self) -> &[f64] {
-        &self.csc.dense().1
-    }
-
-    /// Writes `Y(jω) = G + jωC` into `y` (column-major `dim × dim`).
+    /// Writes `Y(jω) = G + jωC` into `y` as a dense column-major `dim × dim` matrix.
     ///
     /// # Panics
     /// If `y` does not have `dim²` elements (a programming error).
     pub fn fill_dense(&self, omega: f64, y: &mut [Complex64]) {
         assert_eq!(y.len(), self.dim * self.dim, "matrix buffer size");
-        self.csc.fill_dense(omega, y);
+        y.fill(Complex64::new(0.0, 0.0));
+        for (j, col) in y
+            .chunks_exact_mut(self.dim.max(1))
+            .enumerate()
+            .take(self.dim)
+        {
+            for k in self.col_ptr[j]..self.col_ptr[j + 1] {
+                col[self.row_idx[k]] = Complex64::new(self.g[k], omega * self.c[k]);
+            }
+        }
     }
 
-    /// `out = C · x` (from the compressed columns).
+    /// `out = C · x`.
     pub(crate) fn c_times(&self, x: &[Complex64], out: &mut [Complex64]) {
-        self.csc.c_times(x, out);
+        out.fill(Complex64::new(0.0, 0.0));
+        for (j, &xj) in x.iter().enumerate() {
+            if xj == Complex64::new(0.0, 0.0) {
+                continue;
+            }
+            for k in self.col_ptr[j]..self.col_ptr[j + 1] {
+                let c = self.c[k];
+                if c != 0.0 {
+                    out[self.row_idx[k]] += xj * c;
+                }
+            }
+        }
     }
 }

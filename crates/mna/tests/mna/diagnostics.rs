@@ -121,7 +121,7 @@ fn cut_set_of_current_sources() {
     let e = new_err(&circuit);
     assert_eq!(
         e.to_string(),
-        "nodes `a` are connected to the rest of the circuit only through the current sources `I1`, `I2`"
+        "node `a` is connected to the rest of the circuit only through the current sources `I1`, `I2`"
     );
 }
 
@@ -137,7 +137,7 @@ fn cut_set_of_a_current_source_into_a_capacitor_at_dc() {
     assert!(matches!(e, MnaError::CurrentCutSet { dc_only: true, .. }));
     assert_eq!(
         e.to_string(),
-        "nodes `a` are connected to the rest of the circuit only through the current sources `I1` at DC (capacitors open)"
+        "node `a` is connected to the rest of the circuit only through the current source `I1` at DC (capacitors open)"
     );
 }
 
@@ -479,4 +479,41 @@ fn hopeless_conditioning_is_an_error_with_the_estimate() {
             "the system is singular at {f0} Hz near the current of `L1` (condition estimate {k:.3e}: no correct digit is left)"
         )
     );
+}
+
+#[test]
+fn ids_outside_the_circuit_are_errors_not_panics() {
+    let circuit = Circuit::builder()
+        .vsrc("V1", "a", "gnd", 1.0)
+        .part(
+            "R1",
+            PartKind::Resistor {
+                a: rolloff_netlist::NodeId(1),
+                b: rolloff_netlist::NodeId(7),
+                value: 1.0,
+                tol: None,
+                fit: None,
+            },
+        )
+        .build()
+        .unwrap();
+    assert_eq!(new_err(&circuit).to_string(), "no node with index 7");
+    let mut circuit = Circuit::builder()
+        .vsrc("V1", "a", "gnd", 1.0)
+        .resistor("R1", "a", "gnd", 1.0)
+        .build()
+        .unwrap();
+    circuit.drive = Some(rolloff_netlist::PartId(9));
+    assert_eq!(new_err(&circuit).to_string(), "no part with index 9");
+    circuit.drive = Some(rolloff_netlist::PartId(1));
+    // A resistor as the drive: transfers say there is no AC source to drive with.
+    let mut a = Analyzer::new(&circuit).unwrap();
+    assert!(matches!(
+        a.transfer(&ProbeKind::InputImpedance, 1.0),
+        Err(MnaError::Drive(DriveError::NoAcSource))
+    ));
+    assert!(matches!(
+        a.transfer(&ProbeKind::Current(rolloff_netlist::PartId(5)), 1.0),
+        Err(MnaError::UnknownPart(5))
+    ));
 }

@@ -4,6 +4,8 @@
 mod closed_form;
 mod diagnostics;
 mod properties;
+mod robustness;
+mod solver_trait;
 
 use num_complex::Complex64;
 use rolloff_netlist::{NodeId, PartKind};
