@@ -41,7 +41,7 @@ const ZERO: Complex64 = Complex64::new(0.0, 0.0);
 
 /// A kept pivot is accepted when `|pivot| ≥ PIVOT_THRESHOLD · max |candidate|` over
 /// the entries below it in its column (`|re| + |im|` magnitudes).
-pub const PIVOT_THRESHOLD: f64 = 1e-2;
+pub const PIVOT_THRESHOLD: f64 = 0.1;
 
 /// A borrowed compressed-column `Y(jω) = G + jωC`: the pattern (row indices sorted
 /// within each column) with `G` and `C` at each position.
