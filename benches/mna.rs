@@ -91,6 +91,34 @@ fn per_point(c: &mut Criterion) {
     group.finish();
 }
 
+/// The faer sparse LU (root feature `sparse`) on the larger ladders.
+#[cfg(feature = "sparse")]
+fn per_point_sparse(c: &mut Criterion) {
+    let freqs = freqs();
+    let mut group = c.benchmark_group("mna_point_sparse");
+    for n in [10usize, 20, 50, 100] {
+        let circuit = ladder(n);
+        let probe = [ProbeKind::Node(circuit.node(&format!("n{n}")).unwrap())];
+        let mut analyzer: Analyzer<rolloff_mna::SparseLu> =
+            Analyzer::with_solver(&circuit).unwrap();
+        let mut out = [Complex64::new(0.0, 0.0)];
+        let mut i = 0;
+        group.bench_function(format!("solve_ladder_{n}"), |b| {
+            b.iter(|| {
+                i = (i + 1) % freqs.len();
+                analyzer
+                    .transfer_many(&probe, black_box(freqs[i]), &mut out)
+                    .unwrap();
+                black_box(out[0])
+            });
+        });
+    }
+    group.finish();
+}
+
+#[cfg(not(feature = "sparse"))]
+fn per_point_sparse(_: &mut Criterion) {}
+
 fn sweep(c: &mut Criterion) {
     let freqs = freqs();
     let circuit = ladder(10);
@@ -101,5 +129,5 @@ fn sweep(c: &mut Criterion) {
     });
 }
 
-criterion_group!(benches, per_point, sweep);
+criterion_group!(benches, per_point, per_point_sparse, sweep);
 criterion_main!(benches);

@@ -51,12 +51,10 @@ fn ladder(sections: usize) -> Circuit {
 /// corner: up to five entries per row and fill under elimination.
 fn grid(side: usize) -> Circuit {
     let name = |i: usize, j: usize| format!("g{i}_{j}");
-    let mut b = Circuit::builder().vsrc("V1", "src", "gnd", 1.0).resistor(
-        "RS",
-        "src",
-        &name(0, 0),
-        RS,
-    );
+    let mut b =
+        Circuit::builder()
+            .vsrc("V1", "src", "gnd", 1.0)
+            .resistor("RS", "src", &name(0, 0), RS);
     for i in 0..side {
         for j in 0..side {
             b = b.capacitor(&format!("C{i}_{j}"), &name(i, j), "gnd", C);
@@ -107,8 +105,16 @@ impl Thomas {
             let left = if i == 0 { gs } else { g };
             let right = if i + 1 < n { g } else { 0.0 };
             let diag = Complex64::new(left + right, 0.0) + jwc;
-            let a = if i == 0 { Complex64::new(0.0, 0.0) } else { off };
-            let b = if i == 0 { Complex64::new(gs, 0.0) } else { Complex64::new(0.0, 0.0) };
+            let a = if i == 0 {
+                Complex64::new(0.0, 0.0)
+            } else {
+                off
+            };
+            let b = if i == 0 {
+                Complex64::new(gs, 0.0)
+            } else {
+                Complex64::new(0.0, 0.0)
+            };
             let m = (diag - a * prev_c).inv();
             prev_c = off * m;
             prev_d = (b - a * prev_d) * m;
@@ -195,7 +201,11 @@ fn sparse_vs_thomas(c: &mut Criterion) {
         point(&mut lu, &system, omega, &mut rhs);
         th.solve(n, omega);
         let v1 = rhs[circuit.node("n1").unwrap().index() - 1];
-        assert!((v1 - th.dp[0]).norm() <= 1e-9 * v1.norm(), "{v1} vs {}", th.dp[0]);
+        assert!(
+            (v1 - th.dp[0]).norm() <= 1e-9 * v1.norm(),
+            "{v1} vs {}",
+            th.dp[0]
+        );
     }
     group.finish();
 }
@@ -206,7 +216,11 @@ fn crossover(c: &mut Criterion) {
     let cases: Vec<(String, Circuit)> = [4usize, 8, 12, 16, 24, 32, 64]
         .iter()
         .map(|&n| (format!("ladder{n}"), ladder(n)))
-        .chain([2usize, 3, 4, 5, 6, 8].iter().map(|&s| (format!("grid{s}x{s}"), grid(s))))
+        .chain(
+            [2usize, 3, 4, 5, 6, 8]
+                .iter()
+                .map(|&s| (format!("grid{s}x{s}"), grid(s))),
+        )
         .collect();
     for (name, circuit) in &cases {
         let system = System::new(circuit);
@@ -240,7 +254,10 @@ fn parallel(c: &mut Criterion) {
     let probes = [ProbeKind::Node(circuit.node(&format!("n{n}")).unwrap())];
     let fs = freqs(50);
     let mut a = Analyzer::with_choice(&circuit, SolverChoice::Auto).unwrap();
-    let pool = rayon::ThreadPoolBuilder::new().num_threads(2).build().unwrap();
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(2)
+        .build()
+        .unwrap();
     let mut group = c.benchmark_group("parallel");
     group.sample_size(10);
     group.bench_function("serial_50pt_1e5", |b| {
@@ -252,5 +269,11 @@ fn parallel(c: &mut Criterion) {
     group.finish();
 }
 
-criterion_group!(benches, dense_vs_nalgebra, sparse_vs_thomas, crossover, parallel);
+criterion_group!(
+    benches,
+    dense_vs_nalgebra,
+    sparse_vs_thomas,
+    crossover,
+    parallel
+);
 criterion_main!(benches);

@@ -31,14 +31,18 @@ fn main() {
     let t1 = Instant::now();
     let mut analyzer = Analyzer::new(&circuit).unwrap();
     let t2 = Instant::now();
-    let freqs: Vec<f64> = (0..50).map(|k| 10f64.powf(6.0 * f64::from(k) / 49.0)).collect();
+    let freqs: Vec<f64> = (0..50)
+        .map(|k| 10f64.powf(6.0 * f64::from(k) / 49.0))
+        .collect();
     let probes = [ProbeKind::Node(circuit.node("out").unwrap())];
     let values = if threads > 1 {
         let pool = rayon::ThreadPoolBuilder::new()
             .num_threads(threads)
             .build()
             .unwrap();
-        analyzer.sweep_parallel(&probes, &freqs, Some(&pool)).unwrap()
+        analyzer
+            .sweep_parallel(&probes, &freqs, Some(&pool))
+            .unwrap()
     } else {
         analyzer.sweep(&probes, &freqs).unwrap()
     };

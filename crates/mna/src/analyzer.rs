@@ -24,6 +24,9 @@ const GROWTH_TRIGGER: f64 = 1e6;
 const GROWTH_WARNING: f64 = 1e8;
 /// Condition estimate above which a warning is recorded.
 const ILL_CONDITIONED: f64 = 1e12;
+/// A drive current at or below this many ulps of the currents meeting at its terminals
+/// is taken as zero (an open circuit).
+const OPEN_CIRCUIT_ULPS: f64 = 64.0;
 /// Condition estimate above which no digit of the result can be trusted: an error.
 const HOPELESS: f64 = 1.0 / f64::EPSILON;
 
@@ -475,7 +478,7 @@ impl<S: LinearSolver> Analyzer<S> {
             self.drive_solved = true;
         }
         if derivative && !self.derivative_solved {
-            derivative_solve(&self.system, &self.solver, &self.x, &mut self.dx);
+            derivative_solve(&self.system, &mut self.solver, &self.x, &mut self.dx);
             self.derivative_solved = true;
         }
         Ok(())
@@ -538,7 +541,7 @@ impl<S: LinearSolver> Analyzer<S> {
         if !derivative {
             return (z, ZERO);
         }
-        derivative_solve(&self.system, &self.solver, &self.aux, &mut self.aux_d);
+        derivative_solve(&self.system, &mut self.solver, &self.aux, &mut self.aux_d);
         (z, self.aux_d[k])
     }
 
@@ -571,7 +574,7 @@ impl<S: LinearSolver> Analyzer<S> {
                 Ok((a / b, (dv(num) * b - a * dv(den)) / (b * b)))
             }
             ProbeKind::Current(p) => Ok(self.part_current(p, x, dx, omega, superposed)),
-            ProbeKind::InputImpedance => self.input_impedance(x, dx, freq_hz),
+            ProbeKind::InputImpedance => self.input_impedance(x, dx, omega, freq_hz),
             ProbeKind::OutputImpedance(_) => Ok((ZERO, ZERO)),
         }
     }
@@ -580,15 +583,21 @@ impl<S: LinearSolver> Analyzer<S> {
         &self,
         x: &[Complex64],
         dx: Option<&[Complex64]>,
+        omega: f64,
         freq_hz: f64,
     ) -> Result<ValueAndSlope, MnaError> {
         let drive = self.drive.clone()?;
+        // The scale of the currents that cancel in the drive's current: below a few
+        // hundred ulps of it the current is indistinguishable from zero, and the
+        // impedance has no correct digit (an open circuit seen through roundoff).
+        let scale;
         let dxs = |n: NodeId| dx.map_or(ZERO, |d| node_value(d, n));
         let (volt, dvolt, cur, dcur) = match self.circuit.parts[drive.index()].kind {
             PartKind::VoltageSource { pos, neg, .. } => {
                 let k = self.system.branch(drive).unwrap_or_default();
                 let i = -x[k];
                 let di = dx.map_or(ZERO, |d| -d[k]);
+                scale = self.kcl_terms(x, pos, k, omega) + self.kcl_terms(x, neg, k, omega);
                 (
                     node_value(x, pos) - node_value(x, neg),
                     dxs(pos) - dxs(neg),
@@ -600,17 +609,40 @@ impl<S: LinearSolver> Analyzer<S> {
                 let volt = node_value(x, to) - node_value(x, from);
                 let dvolt = dxs(to) - dxs(from);
                 let g = rp.map_or(0.0, |_| self.part_value(drive).map_or(0.0, |r| 1.0 / r));
+                scale = 1.0 + (volt * g).norm();
                 (volt, dvolt, Complex64::new(1.0, 0.0) - volt * g, -dvolt * g)
             }
             _ => return Err(MnaError::Drive(DriveError::NoAcSource)),
         };
-        if cur == ZERO {
+        if cur.norm() <= OPEN_CIRCUIT_ULPS * f64::EPSILON * scale {
             return Err(MnaError::InfiniteImpedance {
                 what: "the input impedance".into(),
                 freq_hz,
             });
         }
         Ok((volt / cur, (dvolt * cur - volt * dcur) / (cur * cur)))
+    }
+
+    /// `Σ_j |Y_nj · x_j|` over the KCL row of node `n`, without column `skip`: the size
+    /// of the currents that meet at the node.
+    fn kcl_terms(&self, x: &[Complex64], n: NodeId, skip: usize, omega: f64) -> f64 {
+        let Some(row) = node_unknown(n) else {
+            return 0.0;
+        };
+        let (col_ptr, row_idx) = self.system.csc_pattern();
+        let (g, c) = (self.system.g_values(), self.system.c_values());
+        let mut total = 0.0;
+        for (j, &xj) in x.iter().enumerate() {
+            if j == skip {
+                continue;
+            }
+            for k in col_ptr[j]..col_ptr[j + 1] {
+                if row_idx[k] == row {
+                    total += (Complex64::new(g[k], omega * c[k]) * xj).norm();
+                }
+            }
+        }
+        total
     }
 
     /// The current through a part from its first node to its second (for an op-amp,
@@ -811,7 +843,7 @@ fn check_ids(circuit: &Circuit) -> Result<(), MnaError> {
 /// `dx = −Y⁻¹ (jC) x` with the current factors.
 fn derivative_solve<S: LinearSolver>(
     system: &System,
-    solver: &S,
+    solver: &mut S,
     x: &[Complex64],
     dx: &mut [Complex64],
 ) {

@@ -57,7 +57,8 @@ pub trait LinearSolver: Clone + Send {
     fn factor(&mut self, system: &System, omega: f64) -> Result<FactorReport, SolverError>;
 
     /// Solves `Y x = b` in place with the current factors (`rhs` holds `b`, then `x`).
-    fn solve_in_place(&self, rhs: &mut [Complex64]);
+    /// `&mut self` so that a solver may use its own preallocated scratch space.
+    fn solve_in_place(&mut self, rhs: &mut [Complex64]);
 
     /// An estimate of the 1-norm condition number of the matrix as factorised (after
     /// any equilibration), from the current factors.
@@ -299,59 +300,77 @@ impl DenseLu {
 
     /// Hager/Higham estimate of `‖A_s⁻¹‖₁` for the scaled matrix.
     fn inverse_norm1_estimate(&mut self) -> f64 {
-        let n = self.n;
-        if n == 0 {
-            return 0.0;
-        }
         let mut x = std::mem::take(&mut self.work);
         let mut s = std::mem::take(&mut self.sign);
-        x.fill(Complex64::new(1.0 / n as f64, 0.0));
-        self.solve_scaled(&mut x);
-        let mut est: f64 = x.iter().map(|z| z.norm()).sum();
-        let mut last_j = usize::MAX;
-        for _ in 0..5 {
-            for (si, xi) in s.iter_mut().zip(&x) {
-                let m = xi.norm();
-                *si = if m > 0.0 {
-                    xi / m
-                } else {
-                    Complex64::new(1.0, 0.0)
-                };
+        let est = hager(self.n, &mut x, &mut s, |v, adjoint| {
+            if adjoint {
+                self.solve_scaled_adjoint(v);
+            } else {
+                self.solve_scaled(v);
             }
-            self.solve_scaled_adjoint(&mut s);
-            let mut j = 0;
-            let mut best = -1.0;
-            for (i, z) in s.iter().enumerate() {
-                if z.norm() > best {
-                    best = z.norm();
-                    j = i;
-                }
-            }
-            if j == last_j {
-                break;
-            }
-            last_j = j;
-            x.fill(Complex64::new(0.0, 0.0));
-            x[j] = Complex64::new(1.0, 0.0);
-            self.solve_scaled(&mut x);
-            let new: f64 = x.iter().map(|z| z.norm()).sum();
-            if new <= est {
-                break;
-            }
-            est = new;
-        }
-        // Higham's alternating-sign test vector guards against a poor local maximum.
-        let denom = (n.max(2) - 1) as f64;
-        for (i, xi) in x.iter_mut().enumerate() {
-            let sgn = if i % 2 == 0 { 1.0 } else { -1.0 };
-            *xi = Complex64::new(sgn * (1.0 + i as f64 / denom), 0.0);
-        }
-        self.solve_scaled(&mut x);
-        let alt: f64 = 2.0 * x.iter().map(|z| z.norm()).sum::<f64>() / (3.0 * n as f64);
+        });
         self.work = x;
         self.sign = s;
-        est.max(alt)
+        est
     }
+}
+
+/// Hager's (1984) 1-norm estimator of `‖A⁻¹‖₁` with Higham's (1988) alternating-sign
+/// safeguard, given solves with `A` (`adjoint == false`) and `Aᴴ` (`true`). `x` and
+/// `s` are `n`-element work vectors.
+pub(crate) fn hager(
+    n: usize,
+    x: &mut [Complex64],
+    s: &mut [Complex64],
+    mut solve: impl FnMut(&mut [Complex64], bool),
+) -> f64 {
+    if n == 0 {
+        return 0.0;
+    }
+    x.fill(Complex64::new(1.0 / n as f64, 0.0));
+    solve(x, false);
+    let mut est: f64 = x.iter().map(|z| z.norm()).sum();
+    let mut last_j = usize::MAX;
+    for _ in 0..5 {
+        for (si, xi) in s.iter_mut().zip(x.iter()) {
+            let m = xi.norm();
+            *si = if m > 0.0 {
+                xi / m
+            } else {
+                Complex64::new(1.0, 0.0)
+            };
+        }
+        solve(s, true);
+        let mut j = 0;
+        let mut best = -1.0;
+        for (i, z) in s.iter().enumerate() {
+            if z.norm() > best {
+                best = z.norm();
+                j = i;
+            }
+        }
+        if j == last_j {
+            break;
+        }
+        last_j = j;
+        x.fill(Complex64::new(0.0, 0.0));
+        x[j] = Complex64::new(1.0, 0.0);
+        solve(x, false);
+        let new: f64 = x.iter().map(|z| z.norm()).sum();
+        if new <= est {
+            break;
+        }
+        est = new;
+    }
+    // Higham's alternating-sign test vector guards against a poor local maximum.
+    let denom = (n.max(2) - 1) as f64;
+    for (i, xi) in x.iter_mut().enumerate() {
+        let sgn = if i % 2 == 0 { 1.0 } else { -1.0 };
+        *xi = Complex64::new(sgn * (1.0 + i as f64 / denom), 0.0);
+    }
+    solve(x, false);
+    let alt: f64 = 2.0 * x.iter().map(|z| z.norm()).sum::<f64>() / (3.0 * n as f64);
+    est.max(alt)
 }
 
 impl LinearSolver for DenseLu {
@@ -364,7 +383,7 @@ impl LinearSolver for DenseLu {
         self.factor_buffer()
     }
 
-    fn solve_in_place(&self, rhs: &mut [Complex64]) {
+    fn solve_in_place(&mut self, rhs: &mut [Complex64]) {
         for (b, &r) in rhs.iter_mut().zip(&self.row_scale) {
             *b *= r;
         }

@@ -662,7 +662,7 @@ impl LinearSolver for SparseLu {
         self.factor_csc(&CscView::of(system), omega)
     }
 
-    fn solve_in_place(&self, rhs: &mut [Complex64]) {
+    fn solve_in_place(&mut self, rhs: &mut [Complex64]) {
         let f = match self.active {
             Active::Kept => self.kept.as_ref(),
             Active::Fresh => Some(&self.fresh),
@@ -826,8 +826,8 @@ impl LinearSolver for AutoLu {
         }
     }
 
-    fn solve_in_place(&self, rhs: &mut [Complex64]) {
-        match &self.inner {
+    fn solve_in_place(&mut self, rhs: &mut [Complex64]) {
+        match &mut self.inner {
             AutoInner::Dense(d) => d.solve_in_place(rhs),
             AutoInner::Sparse(s) => s.solve_in_place(rhs),
         }

@@ -14,11 +14,16 @@ use stats_alloc::{INSTRUMENTED_SYSTEM, Region, StatsAlloc};
 static GLOBAL: &StatsAlloc<System> = &INSTRUMENTED_SYSTEM;
 
 fn main() {
-    per_frequency_solves_allocate_nothing();
-    println!("test per_frequency_solves_allocate_nothing ... ok");
+    per_frequency_solves_allocate_nothing::<rolloff_mna::DenseLu>();
+    println!("test per_frequency_solves_allocate_nothing (dense) ... ok");
+    #[cfg(feature = "sparse")]
+    {
+        per_frequency_solves_allocate_nothing::<rolloff_mna::SparseLu>();
+        println!("test per_frequency_solves_allocate_nothing (sparse) ... ok");
+    }
 }
 
-fn per_frequency_solves_allocate_nothing() {
+fn per_frequency_solves_allocate_nothing<S: rolloff_mna::LinearSolver>() {
     // A 10-section RC ladder with an op-amp buffer and an inductor, so every kind of
     // branch unknown is in the loop.
     let mut b = Circuit::builder().vsrc("V1", "n0", "gnd", 1.0);
@@ -60,7 +65,7 @@ fn per_frequency_solves_allocate_nothing() {
         ProbeKind::OutputImpedance(circuit.node("n7").unwrap()),
     ];
     let freqs: Vec<f64> = (0..200).map(|i| 10f64.powf(f64::from(i) / 40.0)).collect();
-    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let mut analyzer: Analyzer<S> = Analyzer::with_solver(&circuit).unwrap();
     let mut out = [Complex64::new(0.0, 0.0); 5];
     analyzer.transfer_many(&probes, 1.0, &mut out).unwrap();
 

@@ -356,7 +356,7 @@ fn parallel_sweep_is_bit_identical_to_the_serial_one() {
     let probes = [
         ProbeKind::Node(circuit.node("n3000").unwrap()),
         ProbeKind::Node(circuit.node("n10").unwrap()),
-        ProbeKind::InputImpedance,
+        ProbeKind::Current(circuit.part("R0").unwrap()),
     ];
     // Log-spaced with a DC point in the middle (a fresh factorisation there).
     let mut freqs: Vec<f64> = (0..37).map(|k| 10f64.powf(f64::from(k) / 6.0)).collect();

@@ -517,3 +517,34 @@ fn ids_outside_the_circuit_are_errors_not_panics() {
         Err(MnaError::UnknownPart(5))
     ));
 }
+
+#[test]
+fn an_open_circuit_seen_through_roundoff_is_an_infinite_impedance() {
+    // At DC an RC ladder into an op-amp input draws no current; roundoff leaves a
+    // current of a few ulps, which must not turn into a huge finite impedance.
+    let mut b = Circuit::builder().vsrc("V1", "n0", "gnd", 1.0);
+    for k in 0..30 {
+        b = b
+            .resistor(
+                &format!("R{k}"),
+                &format!("n{k}"),
+                &format!("n{}", k + 1),
+                1e3,
+            )
+            .capacitor(&format!("C{k}"), &format!("n{}", k + 1), "gnd", 1e-9);
+    }
+    let (out, inp) = (b.node("out"), b.node("n30"));
+    let circuit = b
+        .part("U1", opamp(out, inp, out, None, None))
+        .resistor("RL", "out", "gnd", 600.0)
+        .build()
+        .unwrap();
+    let mut a = Analyzer::new(&circuit).unwrap();
+    assert!(matches!(
+        a.transfer(&ProbeKind::InputImpedance, 0.0),
+        Err(MnaError::InfiniteImpedance { .. })
+    ));
+    // At 1 kHz it is finite and about R0 + (the rest), dominated by the first sections.
+    let z = a.transfer(&ProbeKind::InputImpedance, 1e3).unwrap();
+    assert!(z.re > 1e3 && z.norm() < 1e7, "{z}");
+}
