@@ -83,7 +83,21 @@ fn main() {
         let system = System::new(&ladder(n));
         let (us, checksum) = match kind {
             "dense" => time_sweep(DenseLu::for_system(&system), &system, &freqs),
-            _ => time_sweep(SparseLu::for_system(&system), &system, &freqs),
+            _ => {
+                let mut lu = SparseLu::for_system(&system);
+                let kept = freqs
+                    .iter()
+                    .filter(|&&f| {
+                        lu.factor(&system, 2.0 * PI * f).is_ok() && lu.last_used_kept_pivots()
+                    })
+                    .count();
+                eprintln!(
+                    "{n} sections: L+U holds {:?} entries; kept pivots at {kept} of {} points",
+                    lu.factor_nnz(),
+                    freqs.len()
+                );
+                time_sweep(lu, &system, &freqs)
+            }
         };
         println!(
             "{{\"kind\": \"{kind}\", \"sections\": {n}, \"points\": {points}, \"us_per_point\": {us}, \"checksum_n1\": {checksum}}}"

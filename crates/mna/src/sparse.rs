@@ -90,12 +90,6 @@ impl<'a> CscView<'a> {
     fn c_values(&self) -> &'a [f64] {
         self.c
     }
-
-    fn fill(&self, omega: f64, out: &mut [Complex64]) {
-        for ((o, &g), &c) in out.iter_mut().zip(self.g).zip(self.c) {
-            *o = Complex64::new(g, omega * c);
-        }
-    }
 }
 
 /// An owned compressed-column pattern with values, for a matrix other than the
@@ -273,26 +267,48 @@ impl Factors {
         self.scratch_seen = seen;
     }
 
-    /// Refactorises scaled values over the kept patterns and pivots. `x` is a zeroed
-    /// work vector of length `n`, left zeroed. Fails at the pivot position whose pivot
-    /// is zero or below the threshold.
+    /// Refactorises `Y(jω)` over the kept patterns and pivots, equilibrating on the
+    /// fly: rows by `row_scale` (made before), each column by the power of two that
+    /// brings its largest row-scaled entry to `[1, 2)` (written to `col_scale`), so the
+    /// values are read once and never stored. `x` is a zeroed work vector of length
+    /// `n`, left zeroed. Returns the report and the scaled matrix's 1-norm, or the
+    /// pivot position whose pivot is zero or below the threshold.
     fn refactor(
         &mut self,
-        col_ptr: &[usize],
-        row_idx: &[usize],
-        vals: &[Complex64],
+        csc: &CscView<'_>,
+        omega: f64,
+        row_scale: &[f64],
+        col_scale: &mut [f64],
         x: &mut [Complex64],
-    ) -> Result<(), usize> {
+    ) -> Result<(FactorReport, f64), usize> {
+        let (col_ptr, row_idx, gv, cv) =
+            (csc.col_ptr(), csc.row_idx(), csc.g_values(), csc.c_values());
+        let (mut dmin, mut dmax, mut at, mut umax) = (f64::INFINITY, 0.0f64, 0, 0.0f64);
+        let mut norm = 0.0f64;
         for j in 0..self.n {
             let q = self.col_perm[j];
-            for s in col_ptr[q]..col_ptr[q + 1] {
-                x[row_idx[s]] = vals[s];
+            let (lo, hi) = (col_ptr[q], col_ptr[q + 1]);
+            let mut m = 0.0f64;
+            for s in lo..hi {
+                let r = row_scale[row_idx[s]];
+                m = m.max(r * (gv[s].abs() + (omega * cv[s]).abs()));
             }
+            let cs = if m > 0.0 { inverse_pow2(m) } else { 1.0 };
+            col_scale[q] = cs;
+            let mut sum = 0.0;
+            for s in lo..hi {
+                let i = row_idx[s];
+                let z = Complex64::new(gv[s], omega * cv[s]) * (row_scale[i] * cs);
+                sum += norm1(z);
+                x[i] = z;
+            }
+            norm = norm.max(sum);
             for t in self.u_ptr[j]..self.u_ptr[j + 1] {
                 let r = self.u_row[t];
                 let ukj = x[r];
                 x[r] = ZERO;
                 self.u_val[t] = ukj;
+                umax = umax.max(norm1(ukj));
                 if ukj != ZERO {
                     let k = self.u_pos[t];
                     for l in self.l_ptr[k]..self.l_ptr[k + 1] {
@@ -313,6 +329,11 @@ impl Factors {
                 x.fill(ZERO);
                 return Err(j);
             }
+            if p < dmin {
+                dmin = p;
+                at = q;
+            }
+            dmax = dmax.max(p);
             let inv = piv.inv();
             self.diag[j] = piv;
             self.inv_diag[j] = inv;
@@ -322,7 +343,12 @@ impl Factors {
                 x[i] = ZERO;
             }
         }
-        Ok(())
+        let report = FactorReport {
+            pivot_ratio: if self.n == 0 { 1.0 } else { dmin / dmax },
+            growth: umax.max(dmax),
+            smallest_pivot_unknown: at,
+        };
+        Ok((report, norm))
     }
 
     /// Pivot ratio, growth and smallest pivot of the current values; a zero or
@@ -473,19 +499,30 @@ impl SparseLu {
     }
 
     /// Fills `vals` with the equilibrated `Y(jω)` and records the scales.
-    fn fill_scaled(&mut self, csc: &CscView<'_>, omega: f64) -> Result<(), SolverError> {
-        csc.fill(omega, &mut self.vals);
-        let (col_ptr, row_idx) = (csc.col_ptr(), csc.row_idx());
+    /// The row scales of `Y(jω)`: each row by the power of two that brings its
+    /// largest entry (`|re| + |im|`) to `[1, 2)`.
+    fn row_scales(&mut self, csc: &CscView<'_>, omega: f64) -> Result<(), SolverError> {
         let rmax = &mut self.row_scale;
         rmax.fill(0.0);
-        for (&r, &z) in row_idx.iter().zip(&self.vals) {
-            rmax[r] = rmax[r].max(norm1(z));
+        for ((&r, &g), &c) in csc.row_idx().iter().zip(csc.g_values()).zip(csc.c_values()) {
+            rmax[r] = rmax[r].max(g.abs() + (omega * c).abs());
         }
         for (row, r) in rmax.iter_mut().enumerate() {
             if !(*r > 0.0 && r.is_finite()) {
                 return Err(SolverError::ZeroRow { row });
             }
             *r = inverse_pow2(*r);
+        }
+        Ok(())
+    }
+
+    /// The equilibrated values of `Y(jω)` into `vals` (row scales made before), for
+    /// a fresh factorisation.
+    fn fill_scaled(&mut self, csc: &CscView<'_>, omega: f64) {
+        let (col_ptr, row_idx) = (csc.col_ptr(), csc.row_idx());
+        let rmax = &self.row_scale;
+        for ((v, &g), &c) in self.vals.iter_mut().zip(csc.g_values()).zip(csc.c_values()) {
+            *v = Complex64::new(g, omega * c);
         }
         let mut norm = 0.0f64;
         for col in 0..self.n {
@@ -506,7 +543,6 @@ impl SparseLu {
             norm = norm.max(sum);
         }
         self.norm1 = norm;
-        Ok(())
     }
 
     /// A fresh partial-pivoting factorisation of the scaled values (faer, with the
@@ -620,7 +656,10 @@ impl SparseLu {
         // The kept pivots: from the first reference frequency that factorises.
         let w = reference_omega(csc);
         for omega in [w, w * 1e3, w * 1e-3, 1.0] {
-            if lu.fill_scaled(csc, omega).is_ok() && lu.factor_fresh(csc).is_ok() {
+            if lu.row_scales(csc, omega).is_ok() && {
+                lu.fill_scaled(csc, omega);
+                lu.factor_fresh(csc).is_ok()
+            } {
                 lu.kept = Some(lu.fresh.clone());
                 break;
             }
@@ -639,16 +678,21 @@ impl SparseLu {
         omega: f64,
     ) -> Result<FactorReport, SolverError> {
         self.active = Active::None;
-        self.fill_scaled(csc, omega)?;
+        self.row_scales(csc, omega)?;
         if let Some(kept) = &mut self.kept
-            && kept
-                .refactor(csc.col_ptr(), csc.row_idx(), &self.vals, &mut self.x)
-                .is_ok()
-            && let Ok(report) = kept.report()
+            && let Ok((report, norm)) = kept.refactor(
+                csc,
+                omega,
+                &self.row_scale,
+                &mut self.col_scale,
+                &mut self.x,
+            )
         {
+            self.norm1 = norm;
             self.active = Active::Kept;
             return Ok(report);
         }
+        self.fill_scaled(csc, omega);
         self.factor_fresh(csc)
     }
 }
@@ -681,6 +725,7 @@ impl LinearSolver for SparseLu {
     }
 
     fn condition_estimate(&mut self) -> f64 {
+        let norm = self.norm1;
         let f = match self.active {
             Active::Kept => self.kept.as_ref(),
             Active::Fresh => Some(&self.fresh),
@@ -689,7 +734,7 @@ impl LinearSolver for SparseLu {
         let Some(f) = f else {
             return f64::INFINITY;
         };
-        self.norm1 * inverse_norm1_estimate(f, &mut self.est_x, &mut self.est_s, &mut self.x)
+        norm * inverse_norm1_estimate(f, &mut self.est_x, &mut self.est_s, &mut self.x)
     }
 }
 
@@ -764,7 +809,7 @@ pub enum SolverChoice {
 
 /// Up to this many unknowns the dense LU is used without looking at the pattern
 /// (measured crossover on ladder-like networks, see `docs/performance.md`).
-pub const DENSE_ALWAYS_MAX: usize = 12;
+pub const DENSE_ALWAYS_MAX: usize = 8;
 
 /// Above this many unknowns the sparse LU is always used.
 pub const DENSE_NEVER_ABOVE: usize = 200;
