@@ -81,9 +81,10 @@ fn main() {
             .map(|k| 10f64.powf(6.0 * k as f64 / (points.max(2) - 1) as f64))
             .collect();
         let system = System::new(&ladder(n));
-        let (us, checksum) = match kind {
-            "dense" => time_sweep(DenseLu::for_system(&system), &system, &freqs),
-            _ => {
+        let (us, checksum) = if kind == "dense" {
+            time_sweep(DenseLu::for_system(&system), &system, &freqs)
+        } else {
+            {
                 let mut lu = SparseLu::for_system(&system);
                 let kept = freqs
                     .iter()
