@@ -48,7 +48,7 @@ fn main() {
     };
     let t3 = Instant::now();
     println!(
-        "sections {n}, unknowns {}, sparse {}, threads {threads}: compile {:.3} s, analyzer {:.3} s, sweep {:.3} s ({:.2} ms/point), total {:.3} s; |H(1 Hz)| = {:.6}",
+        "sections {n}, unknowns {}, sparse {}, threads {threads}: compile {:.3} s, analyzer {:.3} s, sweep {:.3} s ({:.2} ms/point), total {:.3} s; |H(1 Hz)| = {:e}",
         analyzer.system().dim(),
         analyzer.solver().is_sparse(),
         (t1 - t0).as_secs_f64(),
