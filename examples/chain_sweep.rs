@@ -8,7 +8,7 @@
 
 use std::time::Instant;
 
-use rolloff_mna::Analyzer;
+use rolloff_mna::{Analyzer, SolverChoice};
 use rolloff_netlist::{CompileOptions, ProbeKind, compile};
 
 fn main() {
@@ -27,14 +27,16 @@ fn main() {
          probe out\n"
     );
     let compiled = compile(&text, &CompileOptions::default());
+    drop(text);
     let circuit = compiled.circuit.expect("the generated text compiles");
+    let out = circuit.node("out").unwrap();
     let t1 = Instant::now();
-    let mut analyzer = Analyzer::new(&circuit).unwrap();
+    let mut analyzer = Analyzer::from_circuit(circuit, SolverChoice::Auto).unwrap();
     let t2 = Instant::now();
     let freqs: Vec<f64> = (0..50)
         .map(|k| 10f64.powf(6.0 * f64::from(k) / 49.0))
         .collect();
-    let probes = [ProbeKind::Node(circuit.node("out").unwrap())];
+    let probes = [ProbeKind::Node(out)];
     let values = if threads > 1 {
         let pool = rayon::ThreadPoolBuilder::new()
             .num_threads(threads)

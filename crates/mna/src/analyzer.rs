@@ -105,7 +105,23 @@ impl Analyzer<AutoLu> {
         circuit: &Circuit,
         choice: SolverChoice,
     ) -> Result<Analyzer<AutoLu>, MnaError> {
-        Analyzer::build(circuit, |system| AutoLu::with_choice(system, choice))
+        Analyzer::build(std::borrow::Cow::Borrowed(circuit), |system| {
+            AutoLu::with_choice(system, choice)
+        })
+    }
+
+    /// As [`Analyzer::with_choice`], taking the circuit by value so that a very large
+    /// circuit is not held twice.
+    ///
+    /// # Errors
+    /// As [`Analyzer::new`].
+    pub fn from_circuit(
+        circuit: Circuit,
+        choice: SolverChoice,
+    ) -> Result<Analyzer<AutoLu>, MnaError> {
+        Analyzer::build(std::borrow::Cow::Owned(circuit), |system| {
+            AutoLu::with_choice(system, choice)
+        })
     }
 }
 
@@ -115,10 +131,15 @@ impl<S: LinearSolver> Analyzer<S> {
     /// # Errors
     /// As [`Analyzer::new`].
     pub fn with_solver(circuit: &Circuit) -> Result<Analyzer<S>, MnaError> {
-        Analyzer::build(circuit, S::for_system)
+        Analyzer::build(std::borrow::Cow::Borrowed(circuit), S::for_system)
     }
 
-    fn build(circuit: &Circuit, make: impl FnOnce(&System) -> S) -> Result<Analyzer<S>, MnaError> {
+    fn build(
+        circuit: std::borrow::Cow<'_, Circuit>,
+        make: impl FnOnce(&System) -> S,
+    ) -> Result<Analyzer<S>, MnaError> {
+        let owned = circuit;
+        let circuit: &Circuit = &owned;
         check_ids(circuit)?;
         topology::check(circuit, false)?;
         let system = System::new(circuit);
@@ -140,7 +161,7 @@ impl<S: LinearSolver> Analyzer<S> {
         let dc_check = topology::check(circuit, true);
         let dim = system.dim();
         let mut analyzer = Analyzer {
-            circuit: circuit.clone(),
+            circuit: owned.into_owned(),
             solver: make(&system),
             system,
             warnings: Vec::new(),
