@@ -13,7 +13,7 @@ use crate::circuit::{
     NodeId, Part, PartId, PartKind, Probe, ProbeId, ProbeKind, Span, Sweep, Target, Tolerance,
     Unit,
 };
-use crate::diagnostic::{Diagnostic, DiagnosticKind, line_col};
+use crate::diagnostic::{Diagnostic, DiagnosticKind};
 use crate::syntax::{
     BinOp, BlockDef, CmpSyntax, ExpectStmt, Expr, ExprKind, Func, Ident, MetricArg, PartKeyword,
     PartOption, PartStmt, PartValue, ProbeStmt, ProbeWhat, Stmt, StmtKind, SweepStmt, TargetSyntax,
@@ -23,34 +23,63 @@ use crate::units::{
     AMPERE, DIMENSIONLESS, Dim, FARAD, HENRY, HERTZ, OHM, SECOND, SIEMENS, VOLT, format_number,
 };
 use std::borrow::Cow;
+use std::collections::hash_map::Entry;
 use std::collections::{HashMap, HashSet};
 use std::hash::{BuildHasherDefault, Hasher};
 
-/// FNV-1a: names are short and not adversarial, and SipHash showed up in profiles of
+/// A small multiply-rotate hash that takes eight bytes a step, with a final mix so
+/// the low bits (the table's bucket index) depend on every byte. Names are short and
+/// not adversarial; SipHash, and then byte-at-a-time FNV-1a, showed up in profiles of
 /// 100 000-part files.
-struct Fnv(u64);
+#[derive(Default)]
+struct NameHasher(u64);
 
-impl Default for Fnv {
-    fn default() -> Self {
-        Fnv(0xcbf2_9ce4_8422_2325)
+impl NameHasher {
+    const K: u64 = 0x517c_c1b7_2722_0a95;
+
+    fn add(&mut self, word: u64) {
+        self.0 = (self.0.rotate_left(5) ^ word).wrapping_mul(Self::K);
     }
 }
 
-impl Hasher for Fnv {
+impl Hasher for NameHasher {
     fn write(&mut self, bytes: &[u8]) {
-        for &b in bytes {
-            self.0 ^= u64::from(b);
-            self.0 = self.0.wrapping_mul(0x0100_0000_01b3);
+        let mut chunks = bytes.chunks_exact(8);
+        for chunk in &mut chunks {
+            let mut word = [0u8; 8];
+            word.copy_from_slice(chunk);
+            self.add(u64::from_le_bytes(word));
+        }
+        let rest = chunks.remainder();
+        if !rest.is_empty() {
+            let mut word = [0u8; 8];
+            word[..rest.len()].copy_from_slice(rest);
+            self.add(u64::from_le_bytes(word));
         }
     }
 
+    fn write_u8(&mut self, n: u8) {
+        self.add(u64::from(n));
+    }
+
     fn finish(&self) -> u64 {
-        self.0
+        // The 64-bit finaliser of MurmurHash3 (public domain), spreading every input
+        // bit over the low bits too.
+        let mut h = self.0;
+        h ^= h >> 33;
+        h = h.wrapping_mul(0xff51_afd7_ed55_8ccd);
+        h ^= h >> 33;
+        h = h.wrapping_mul(0xc4ce_b9fe_1a85_ec53);
+        h ^ (h >> 33)
     }
 }
 
 /// The name tables' map type.
-type Map<K, V> = HashMap<K, V, BuildHasherDefault<Fnv>>;
+type Map<K, V> = HashMap<K, V, BuildHasherDefault<NameHasher>>;
+
+/// A name-table key: borrowed from the source for top-level names, owned for the
+/// qualified names of block instances (so a large flat file allocates no keys).
+type Name<'a> = Cow<'a, str>;
 
 /// `prefix + name` without allocating at the top level.
 fn qualify<'n>(prefix: &str, name: &'n str) -> Cow<'n, str> {
@@ -111,6 +140,19 @@ impl NameKind {
     }
 }
 
+/// What the one namespace holds for a name.
+#[derive(Debug, Clone, Copy)]
+struct NameEntry {
+    kind: NameKind,
+    span: Span,
+    /// The `NodeId` of a node, the `PartId` of a built part, else [`NO_INDEX`].
+    index: u32,
+}
+
+/// [`NameEntry::index`] of a name with no node or part (a `let`, a block, a probe, a
+/// block instance, a part that failed to build).
+const NO_INDEX: u32 = u32::MAX;
+
 /// The names in scope while expanding a block body: its parameters and pins.
 #[derive(Default)]
 struct Scope {
@@ -141,18 +183,25 @@ pub(crate) fn elaborate(
         blocks: HashMap::new(),
         names: Map::default(),
         nodes: vec!["gnd".into()],
-        node_index: std::iter::once(("gnd".to_string(), NodeId::GND)).collect(),
+        shadow_nodes: Map::default(),
         node_span: vec![Span::default()],
         node_connections: vec![0],
         parts: Vec::new(),
-        part_index: Map::default(),
         part_name_span: Vec::new(),
         bad_blocks: HashSet::new(),
         failed_parts: HashSet::new(),
+        suggestions_left: 50,
+        line_starts: std::cell::OnceCell::new(),
         has_fit: false,
     };
-    e.names
-        .insert("gnd".into(), (NameKind::Node, Span::default()));
+    e.names.insert(
+        Cow::Borrowed("gnd"),
+        NameEntry {
+            kind: NameKind::Node,
+            span: Span::default(),
+            index: NodeId::GND.0,
+        },
+    );
     e.run(statements, overrides)
 }
 
@@ -161,17 +210,21 @@ struct Elaborator<'a> {
     diags: &'a mut Vec<Diagnostic>,
     lets: Map<String, LetBinding>,
     let_order: Vec<String>,
-    blocks: HashMap<String, &'a BlockDef>,
-    names: Map<String, (NameKind, Span)>,
+    blocks: HashMap<String, &'a BlockDef<'a>>,
+    /// Every name with what it is, and the node or part it stands for (one table, so
+    /// a part or a new node costs one hash lookup).
+    names: Map<Name<'a>, NameEntry>,
     nodes: Vec<String>,
-    node_index: Map<String, NodeId>,
+    /// Nodes whose name is already something else (an error, reported once).
+    shadow_nodes: Map<Name<'a>, NodeId>,
     node_span: Vec<Span>,
     node_connections: Vec<u32>,
     parts: Vec<Part>,
-    part_index: Map<String, PartId>,
     part_name_span: Vec<Span>,
     bad_blocks: HashSet<String>,
     failed_parts: HashSet<String>,
+    suggestions_left: usize,
+    line_starts: std::cell::OnceCell<Vec<usize>>,
     has_fit: bool,
 }
 
@@ -187,15 +240,20 @@ impl<'a> Elaborator<'a> {
         &mut self.diags[last]
     }
 
+    /// The 1-based line of a span, from an index of line starts built on first use
+    /// (so many duplicates do not rescan the file).
     fn line_of(&self, span: Span) -> usize {
-        line_col(self.source, span.start).0
+        let starts = self.line_starts.get_or_init(|| {
+            std::iter::once(0)
+                .chain(self.source.match_indices('\n').map(|(i, _)| i + 1))
+                .collect()
+        });
+        starts.partition_point(|&start| start <= span.start).max(1)
     }
 
-    fn run(&mut self, statements: &'a [Stmt], overrides: &[(String, Expr, String)]) -> Circuit {
+    fn run(&mut self, statements: &'a [Stmt<'a>], overrides: &[(String, Expr, String)]) -> Circuit {
         let n = statements.len();
         self.names.reserve(2 * n);
-        self.node_index.reserve(n);
-        self.part_index.reserve(n);
         self.parts.reserve(n);
         self.nodes.reserve(n);
         self.node_span.reserve(n);
@@ -204,7 +262,7 @@ impl<'a> Elaborator<'a> {
         for stmt in statements {
             if let StmtKind::Block(def) = &stmt.kind {
                 self.declare(&def.name, NameKind::Block);
-                self.blocks.entry(def.name.name.clone()).or_insert(def);
+                self.blocks.entry(def.name.name.to_string()).or_insert(def);
             }
         }
         self.check_recursion();
@@ -297,7 +355,12 @@ impl<'a> Elaborator<'a> {
             spans[new] = self.node_span[old];
             connections[new] = self.node_connections[old];
         }
-        for id in self.node_index.values_mut() {
+        for entry in self.names.values_mut() {
+            if entry.kind == NameKind::Node && entry.index != NO_INDEX {
+                entry.index = new_id[entry.index as usize];
+            }
+        }
+        for id in self.shadow_nodes.values_mut() {
             map(id);
         }
         self.nodes = nodes;
@@ -308,40 +371,47 @@ impl<'a> Elaborator<'a> {
     // ------------------------------------------------------------ names
 
     /// Enters a declared name into the one namespace; a duplicate is an error.
-    fn declare(&mut self, id: &Ident, kind: NameKind) -> bool {
-        self.declare_name(&id.name, id.span, kind)
+    fn declare(&mut self, id: &Ident<'a>, kind: NameKind) -> bool {
+        self.declare_name(Cow::Borrowed(id.name), id.span, kind, NO_INDEX)
     }
 
-    fn declare_name(&mut self, name: &str, span: Span, kind: NameKind) -> bool {
-        if let Some(&(previous, previous_span)) = self.names.get(name) {
-            let line = self.line_of(previous_span);
-            let note = if previous_span == Span::default() {
-                format!("`{name}` is the reference node")
-            } else {
-                format!("`{name}` is already {} (line {line})", previous.word())
-            };
-            self.error(
-                DiagnosticKind::Duplicate,
-                span,
-                format!("the name `{name}` is used twice"),
-            )
-            .with_expected_note(
-                "names of parts, nodes, lets, blocks and probes must all differ",
-                note,
-            );
-            return false;
-        }
-        self.names.insert(name.to_string(), (kind, span));
-        true
+    /// Like [`Self::declare`], recording the node or part `index` the name stands for.
+    fn declare_name(&mut self, name: Name<'a>, span: Span, kind: NameKind, index: u32) -> bool {
+        let (name, previous, previous_span) = match self.names.entry(name) {
+            Entry::Vacant(v) => {
+                v.insert(NameEntry { kind, span, index });
+                return true;
+            }
+            Entry::Occupied(o) => {
+                let previous = *o.get();
+                (o.key().to_string(), previous.kind, previous.span)
+            }
+        };
+        let line = self.line_of(previous_span);
+        let note = if previous_span == Span::default() {
+            format!("`{name}` is the reference node")
+        } else {
+            format!("`{name}` is already {} (line {line})", previous.word())
+        };
+        self.error(
+            DiagnosticKind::Duplicate,
+            span,
+            format!("the name `{name}` is used twice"),
+        )
+        .with_expected_note(
+            "names of parts, nodes, lets, blocks and probes must all differ",
+            note,
+        );
+        false
     }
 
     // ------------------------------------------------------------ lets and values
 
-    fn define_lets(&mut self, statements: &[Stmt], overrides: &[(String, Expr, String)]) {
+    fn define_lets(&mut self, statements: &'a [Stmt<'a>], overrides: &[(String, Expr, String)]) {
         let known: HashSet<&str> = statements
             .iter()
             .filter_map(|s| match &s.kind {
-                StmtKind::Let(n, _) => Some(n.name.as_str()),
+                StmtKind::Let(n, _) => Some(n.name),
                 _ => None,
             })
             .collect();
@@ -363,20 +433,20 @@ impl<'a> Elaborator<'a> {
             let StmtKind::Let(n, expr) = &stmt.kind else {
                 continue;
             };
-            let value = match overrides.iter().rev().find(|(o, _, _)| o == &n.name) {
+            let value = match overrides.iter().rev().find(|(o, _, _)| o == n.name) {
                 Some((_, over, text)) => self.eval_override(n, over, text),
                 None => self.eval(expr, &root),
             };
             if self.declare(n, NameKind::Let) {
                 self.lets.insert(
-                    n.name.clone(),
+                    n.name.to_string(),
                     LetBinding {
                         value,
                         span: n.span,
                         used: false,
                     },
                 );
-                self.let_order.push(n.name.clone());
+                self.let_order.push(n.name.to_string());
             }
         }
     }
@@ -457,7 +527,12 @@ impl<'a> Elaborator<'a> {
             binding.used = true;
             return binding.value;
         }
-        let d = unknown_value_name(n, span, self.let_names(scope));
+        let d = if self.suggestions_left > 0 {
+            self.suggestions_left -= 1;
+            unknown_value_name(n, span, self.let_names(scope))
+        } else {
+            unknown_value_name(n, span, std::iter::empty())
+        };
         self.diags.push(d);
         None
     }
@@ -635,8 +710,8 @@ impl<'a> Elaborator<'a> {
             return Some(q.value);
         }
         let note = match &e.kind {
-            ExprKind::Name(n) => self.lets.get(n).map(|b| {
-                let line = line_col(self.source, b.span.start).0;
+            ExprKind::Name(n) => self.lets.get(*n).map(|b| {
+                let line = self.line_of(b.span);
                 format!(
                     "`{n}` is defined on line {line} as {}",
                     describe_quantity(q)
@@ -686,53 +761,81 @@ impl<'a> Elaborator<'a> {
 
     // ------------------------------------------------------------ parts
 
-    fn node_id(&mut self, id: &Ident, scope: &Scope) -> NodeId {
+    fn node_id(&mut self, id: &Ident<'a>, scope: &Scope) -> NodeId {
         if id.name == "gnd" {
             self.node_connections[0] += 1;
             return NodeId::GND;
         }
-        if let Some(&n) = scope.pins.get(&id.name) {
+        if let Some(&n) = scope.pins.get(id.name) {
             self.node_connections[n.index()] += 1;
             return n;
         }
-        let qualified = qualify(&scope.prefix, &id.name);
-        if let Some(&n) = self.node_index.get(qualified.as_ref()) {
-            self.node_connections[n.index()] += 1;
-            return n;
-        }
-        let qualified = qualified.into_owned();
-        if let Some(&(kind, _)) = self.names.get(&qualified) {
-            self.error(
-                DiagnosticKind::Duplicate,
-                id.span,
-                format!("`{qualified}` is {}, not a node", kind.word()),
-            )
-            .expected = Some("expected a node name".into());
-        } else {
-            self.names
-                .insert(qualified.clone(), (NameKind::Node, id.span));
-        }
+        self.node_named(qualify(&scope.prefix, id.name), id.span)
+    }
+
+    /// The node of a (qualified) name, made on first mention; counts a connection.
+    fn node_named(&mut self, qualified: Name<'a>, span: Span) -> NodeId {
         let n = NodeId(self.nodes.len() as u32);
-        self.nodes.push(qualified.clone());
-        self.node_index.insert(qualified, n);
-        self.node_span.push(id.span);
+        match self.names.entry(qualified) {
+            Entry::Occupied(o) => {
+                let entry = *o.get();
+                if entry.kind == NameKind::Node {
+                    self.node_connections[entry.index as usize] += 1;
+                    return NodeId(entry.index);
+                }
+                let qualified = o.key().clone();
+                if let Some(&n) = self.shadow_nodes.get(qualified.as_ref()) {
+                    self.node_connections[n.index()] += 1;
+                    return n;
+                }
+                self.error(
+                    DiagnosticKind::Duplicate,
+                    span,
+                    format!("`{qualified}` is {}, not a node", entry.kind.word()),
+                )
+                .expected = Some("expected a node name".into());
+                self.nodes.push(qualified.to_string());
+                self.shadow_nodes.insert(qualified, n);
+            }
+            Entry::Vacant(v) => {
+                self.nodes.push(v.key().to_string());
+                v.insert(NameEntry {
+                    kind: NameKind::Node,
+                    span,
+                    index: n.0,
+                });
+            }
+        }
+        self.node_span.push(span);
         self.node_connections.push(1);
         n
     }
 
-    fn uncounted_node(&mut self, id: &Ident, scope: &Scope) -> NodeId {
+    fn uncounted_node(&mut self, id: &Ident<'a>, scope: &Scope) -> NodeId {
         let n = self.node_id(id, scope);
         self.node_connections[n.index()] -= 1;
         n
     }
 
-    fn add_part(&mut self, p: &PartStmt, span: Span, scope: &Scope) {
-        let name = qualify(&scope.prefix, &p.name.name).into_owned();
-        let nodes: Vec<NodeId> = p.nodes.iter().map(|n| self.node_id(n, scope)).collect();
-        let from: Vec<NodeId> = p.from.iter().map(|n| self.node_id(n, scope)).collect();
-        if nodes.len() != p.keyword.n_nodes()
-            || from.len() != if p.keyword.has_from() { 2 } else { 0 }
-        {
+    /// The nodes of a connection list (every one made and counted), keeping the first
+    /// two: no part kind has more in one list, and a longer list is an error that
+    /// needs only the count.
+    fn node_ids(&mut self, ids: &[Ident<'a>], scope: &Scope) -> ([NodeId; 2], usize) {
+        let mut out = [NodeId::GND; 2];
+        for (k, id) in ids.iter().enumerate() {
+            let n = self.node_id(id, scope);
+            if let Some(slot) = out.get_mut(k) {
+                *slot = n;
+            }
+        }
+        (out, ids.len())
+    }
+
+    fn add_part(&mut self, p: &PartStmt<'a>, span: Span, scope: &Scope) {
+        let name = qualify(&scope.prefix, p.name.name);
+        let (node_array, n_nodes) = self.node_ids(&p.nodes, scope);
+        let (from_array, n_from) = self.node_ids(&p.from, scope);
+        if n_nodes != p.keyword.n_nodes() || n_from != if p.keyword.has_from() { 2 } else { 0 } {
             let want = match p.keyword {
                 PartKeyword::Opamp => "one output node, then `from (in+, in-)`",
                 PartKeyword::Vcvs | PartKeyword::Vccs => "two output nodes, then `from (in+, in-)`",
@@ -751,30 +854,34 @@ impl<'a> Elaborator<'a> {
                         "{} `{}` connects {want}; this one has {} and {}",
                         article(p.keyword.word()),
                         p.keyword.word(),
-                        nodes.len(),
-                        from.len()
+                        n_nodes,
+                        n_from
                     )
                 } else {
                     format!(
                         "a `{}` connects {want}; this one has {}",
                         p.keyword.word(),
-                        nodes.len()
+                        n_nodes
                     )
                 },
             )
             .expected = Some(format!("expected {want}"));
             return;
         }
-        if !self.declare_name(&name, p.name.span, NameKind::Part) {
+        // Building the part adds no other part, so its id is known now.
+        let id = PartId(self.parts.len() as u32);
+        if !self.declare_name(name.clone(), p.name.span, NameKind::Part, id.0) {
             return;
         }
-        let Some(kind) = self.part_kind(p, &nodes, &from, scope) else {
+        let (nodes, from) = (&node_array[..n_nodes], &from_array[..n_from]);
+        let Some(kind) = self.part_kind(p, nodes, from, scope) else {
+            if let Some(entry) = self.names.get_mut(name.as_ref()) {
+                entry.index = NO_INDEX;
+            }
             // Keep the name reserved, so later mentions do not add "unknown" errors.
-            self.failed_parts.insert(name);
+            self.failed_parts.insert(name.into_owned());
             return;
         };
-        let id = PartId(self.parts.len() as u32);
-        self.part_index.insert(name.clone(), id);
         self.part_name_span.push(p.name.span);
         if nodes.len() == 2 && nodes[0] == nodes[1] && !p.keyword.has_from() {
             let d = Diagnostic::warning(
@@ -788,10 +895,14 @@ impl<'a> Elaborator<'a> {
             .with_expected("this part does nothing");
             self.diags.push(d);
         }
-        self.parts.push(Part { name, kind, span });
+        self.parts.push(Part {
+            name: name.into_owned(),
+            kind,
+            span,
+        });
     }
 
-    fn option<'p>(p: &'p PartStmt, key: &str) -> Option<&'p PartOption> {
+    fn option<'p, 's>(p: &'p PartStmt<'s>, key: &str) -> Option<&'p PartOption<'s>> {
         p.options.iter().map(|(o, _)| o).find(|o| match o {
             PartOption::Tol(..) => key == "tol",
             PartOption::Polar => key == "polar",
@@ -814,7 +925,7 @@ impl<'a> Elaborator<'a> {
         };
         let place = Place {
             what,
-            name: &p.name.name,
+            name: p.name.name,
         };
         let v = if positive {
             self.positive(e, scope, dim, &place)
@@ -881,7 +992,7 @@ impl<'a> Elaborator<'a> {
                         dim,
                         &Place {
                             what: "amplitude",
-                            name: &p.name.name,
+                            name: p.name.name,
                         },
                     )),
                     Some(PartValue::Fit { span, .. }) => {
@@ -1007,7 +1118,7 @@ impl<'a> Elaborator<'a> {
     ) -> (Option<f64>, Option<FitRange>) {
         let place = Place {
             what,
-            name: &p.name.name,
+            name: p.name.name,
         };
         match &p.value {
             Some(PartValue::Expr(e)) => (self.positive(e, scope, dim, &place), None),
@@ -1021,7 +1132,7 @@ impl<'a> Elaborator<'a> {
                             dim,
                             &Place {
                                 what: "lower end of the fit range",
-                                name: &p.name.name,
+                                name: p.name.name,
                             },
                         );
                         let hi_v = self.positive(
@@ -1030,7 +1141,7 @@ impl<'a> Elaborator<'a> {
                             dim,
                             &Place {
                                 what: "upper end of the fit range",
-                                name: &p.name.name,
+                                name: p.name.name,
                             },
                         );
                         let (Some(low), Some(high)) = (lo, hi_v) else {
@@ -1073,7 +1184,7 @@ impl<'a> Elaborator<'a> {
         let plain = Dim::Percent;
         let place = Place {
             what: "tolerance",
-            name: &p.name.name,
+            name: p.name.name,
         };
         let low = self.value_of(lo, scope, plain, &place).ok_or(())?;
         let (lower, upper, span) = match hi {
@@ -1113,7 +1224,7 @@ impl<'a> Elaborator<'a> {
         };
         let place = Place {
             what: "output swing",
-            name: &p.name.name,
+            name: p.name.name,
         };
         let low = self.value_of(lo, scope, Dim::Si(VOLT), &place);
         let high = self.value_of(hi, scope, Dim::Si(VOLT), &place);
@@ -1172,13 +1283,13 @@ impl<'a> Elaborator<'a> {
             let target = &u.block.name;
             if target == &path[0] {
                 let mut cycle = path.clone();
-                cycle.push(target.clone());
+                cycle.push(target.to_string());
                 return Some((cycle, u.block.span));
             }
-            if path.contains(target) || path.len() > MAX_USE_DEPTH {
+            if path.iter().any(|p| p == target) || path.len() > MAX_USE_DEPTH {
                 continue;
             }
-            path.push(target.clone());
+            path.push(target.to_string());
             if let Some(found) = self.find_cycle(target, path) {
                 return Some(found);
             }
@@ -1187,25 +1298,30 @@ impl<'a> Elaborator<'a> {
         None
     }
 
-    fn expand_use(&mut self, u: &UseStmt, scope: &Scope, depth: usize) {
-        let Some(&def) = self.blocks.get(&u.block.name) else {
+    fn expand_use(&mut self, u: &UseStmt<'a>, scope: &Scope, depth: usize) {
+        let Some(&def) = self.blocks.get(u.block.name) else {
             let mut d = Diagnostic::error(
                 DiagnosticKind::UnknownName,
                 u.block.span,
                 format!("unknown block `{}`", u.block.name),
             )
             .with_expected("expected the name of a block defined in this file");
-            if let Some(close) = similar(&u.block.name, self.blocks.keys().map(String::as_str)) {
+            if let Some(close) = similar(u.block.name, self.blocks.keys().map(String::as_str)) {
                 d.help = Some(format!("did you mean `{close}`?"));
             }
             self.diags.push(d);
             return;
         };
-        if self.bad_blocks.contains(&u.block.name) || depth > MAX_USE_DEPTH {
+        if self.bad_blocks.contains(u.block.name) || depth > MAX_USE_DEPTH {
             return;
         }
         let instance = format!("{}{}", scope.prefix, u.name.name);
-        if !self.declare_name(&instance, u.name.span, NameKind::Part) {
+        if !self.declare_name(
+            Cow::Owned(instance.clone()),
+            u.name.span,
+            NameKind::Part,
+            NO_INDEX,
+        ) {
             return;
         }
         let stages = match u.chain {
@@ -1237,7 +1353,7 @@ impl<'a> Elaborator<'a> {
             }
         };
         if u.nodes.len() != def.pins.len() {
-            let pins: Vec<&str> = def.pins.iter().map(|p| p.name.as_str()).collect();
+            let pins: Vec<&str> = def.pins.iter().map(|p| p.name).collect();
             self.error(
                 DiagnosticKind::PinCount,
                 u.nodes_span,
@@ -1265,7 +1381,12 @@ impl<'a> Elaborator<'a> {
             None => {
                 let inner = Scope {
                     params,
-                    pins: def.pins.iter().map(|p| p.name.clone()).zip(outer).collect(),
+                    pins: def
+                        .pins
+                        .iter()
+                        .map(|p| p.name.to_string())
+                        .zip(outer)
+                        .collect(),
                     prefix: format!("{instance}."),
                 };
                 self.expand_body(def, &inner, depth);
@@ -1276,7 +1397,7 @@ impl<'a> Elaborator<'a> {
 
     fn expand_chain(
         &mut self,
-        def: &BlockDef,
+        def: &BlockDef<'a>,
         instance: &str,
         n: u64,
         outer: &[NodeId],
@@ -1288,24 +1409,18 @@ impl<'a> Elaborator<'a> {
             let output = if k == n {
                 outer[1]
             } else {
-                let junction = Ident {
-                    name: format!("j{k}"),
-                    span: def.name.span,
-                };
-                let scope = Scope {
-                    prefix: format!("{instance}."),
-                    ..Scope::default()
-                };
-                self.uncounted_node(&junction, &scope)
+                let junction =
+                    self.node_named(Cow::Owned(format!("{instance}.j{k}")), def.name.span);
+                self.node_connections[junction.index()] -= 1;
+                junction
             };
             let stage = format!("{instance}.s{k}");
-            self.names
-                .insert(stage.clone(), (NameKind::Part, def.name.span));
+            self.name_stage(stage.clone(), def.name.span);
             let inner = Scope {
                 params: params.clone(),
                 pins: HashMap::from([
-                    (def.pins[0].name.clone(), input),
-                    (def.pins[1].name.clone(), output),
+                    (def.pins[0].name.to_string(), input),
+                    (def.pins[1].name.to_string(), output),
                 ]),
                 prefix: format!("{stage}."),
             };
@@ -1314,7 +1429,59 @@ impl<'a> Elaborator<'a> {
         }
     }
 
-    fn expand_body(&mut self, def: &BlockDef, inner: &Scope, depth: usize) {
+    /// Enters a chain stage's name, replacing what the name was (as ever), but keeping
+    /// a node or part it stood for findable.
+    fn name_stage(&mut self, stage: String, span: Span) {
+        let entry = NameEntry {
+            kind: NameKind::Part,
+            span,
+            index: NO_INDEX,
+        };
+        let key: Name<'a> = Cow::Owned(stage);
+        match self.names.entry(key) {
+            Entry::Vacant(v) => {
+                v.insert(entry);
+            }
+            Entry::Occupied(mut o) => {
+                let old = o.insert(entry);
+                if old.index != NO_INDEX {
+                    if old.kind == NameKind::Node {
+                        let key = o.key().clone();
+                        self.shadow_nodes.insert(key, NodeId(old.index));
+                    } else {
+                        o.get_mut().index = old.index;
+                    }
+                }
+            }
+        }
+    }
+
+    /// The node a name stands for, if any.
+    fn find_node(&self, name: &str) -> Option<NodeId> {
+        match self.names.get(name) {
+            Some(e) if e.kind == NameKind::Node => Some(NodeId(e.index)),
+            Some(_) => self.shadow_nodes.get(name).copied(),
+            None => None,
+        }
+    }
+
+    /// The built part a name stands for, if any.
+    fn find_part(&self, name: &str) -> Option<PartId> {
+        self.names
+            .get(name)
+            .filter(|e| e.kind == NameKind::Part && e.index != NO_INDEX)
+            .map(|e| PartId(e.index))
+    }
+
+    /// The names of the built parts (for did-you-mean searches).
+    fn part_names(&self) -> impl Iterator<Item = String> + '_ {
+        self.names
+            .iter()
+            .filter(|(_, e)| e.kind == NameKind::Part && e.index != NO_INDEX)
+            .map(|(k, _)| k.to_string())
+    }
+
+    fn expand_body(&mut self, def: &BlockDef<'a>, inner: &Scope, depth: usize) {
         for stmt in &def.body {
             match &stmt.kind {
                 StmtKind::Part(p) => self.add_part(p, stmt.span, inner),
@@ -1334,7 +1501,7 @@ impl<'a> Elaborator<'a> {
         let mut ok = true;
         for (name, e) in &u.overrides {
             if !def.params.iter().any(|(p, _)| p.name == name.name) {
-                let names: Vec<&str> = def.params.iter().map(|(p, _)| p.name.as_str()).collect();
+                let names: Vec<&str> = def.params.iter().map(|(p, _)| p.name).collect();
                 let mut d = Diagnostic::error(
                     DiagnosticKind::UnknownName,
                     name.span,
@@ -1345,22 +1512,22 @@ impl<'a> Elaborator<'a> {
                 } else {
                     format!("expected one of {}", names.join(", "))
                 });
-                if let Some(close) = similar(&name.name, names.iter().copied()) {
+                if let Some(close) = similar(name.name, names.iter().copied()) {
                     d.help = Some(format!("did you mean `{close}`?"));
                 }
                 self.diags.push(d);
                 ok = false;
             } else if let Some(q) = self.eval(e, scope) {
-                params.insert(name.name.clone(), q);
+                params.insert(name.name.to_string(), q);
             } else {
                 ok = false;
             }
         }
         for (name, default) in &def.params {
-            if !params.contains_key(&name.name) {
+            if !params.contains_key(name.name) {
                 match self.eval(default, &Scope::default()) {
                     Some(q) => {
-                        params.insert(name.name.clone(), q);
+                        params.insert(name.name.to_string(), q);
                     }
                     None => ok = false,
                 }
@@ -1371,7 +1538,7 @@ impl<'a> Elaborator<'a> {
 
     // ------------------------------------------------------------ analyses
 
-    fn analyses(&mut self, statements: &[Stmt], circuit: &mut Circuit) {
+    fn analyses(&mut self, statements: &'a [Stmt<'a>], circuit: &mut Circuit) {
         let root = Scope::default();
         let mut drive_span = None;
         let mut sweep_span = None;
@@ -1413,8 +1580,8 @@ impl<'a> Elaborator<'a> {
     }
 
     fn resolve_drive(&mut self, n: &Ident, circuit: &Circuit) -> Option<PartId> {
-        let Some(&id) = self.part_index.get(&n.name) else {
-            let names: Vec<String> = self.part_index.keys().cloned().collect();
+        let Some(id) = self.find_part(n.name) else {
+            let names = self.candidates(|e| e.part_names().collect());
             self.unknown(
                 n,
                 "a source",
@@ -1434,6 +1601,16 @@ impl<'a> Elaborator<'a> {
         None
     }
 
+    /// Names to search for a did-you-mean; empty once 50 searches were made, so a
+    /// file full of unknown names stays linear.
+    fn candidates(&mut self, make: impl FnOnce(&Self) -> Vec<String>) -> Vec<String> {
+        if self.suggestions_left == 0 {
+            return Vec::new();
+        }
+        self.suggestions_left -= 1;
+        make(self)
+    }
+
     fn unknown(&mut self, n: &Ident, what: &str, candidates: &[&str]) {
         let mut d = Diagnostic::error(
             DiagnosticKind::UnknownName,
@@ -1441,7 +1618,7 @@ impl<'a> Elaborator<'a> {
             format!("unknown name `{}`", n.name),
         )
         .with_expected(format!("expected {what}"));
-        if let Some(close) = similar(&n.name, candidates.iter().copied()) {
+        if let Some(close) = similar(n.name, candidates.iter().copied()) {
             d.help = Some(format!("did you mean `{close}`?"));
         }
         self.diags.push(d);
@@ -1565,11 +1742,10 @@ impl<'a> Elaborator<'a> {
     }
 
     fn node_ref(&mut self, n: &Ident) -> Option<NodeId> {
-        if let Some(&id) = self.node_index.get(&n.name) {
+        if let Some(id) = self.find_node(n.name) {
             return Some(id);
         }
-        let candidates: Vec<&str> = self.nodes.iter().map(String::as_str).collect();
-        let candidates: Vec<String> = candidates.iter().map(|s| (*s).to_string()).collect();
+        let candidates = self.candidates(|e| e.nodes.clone());
         self.unknown(
             n,
             "a node",
@@ -1579,13 +1755,13 @@ impl<'a> Elaborator<'a> {
     }
 
     fn part_ref(&mut self, n: &Ident) -> Option<PartId> {
-        if let Some(&id) = self.part_index.get(&n.name) {
+        if let Some(id) = self.find_part(n.name) {
             return Some(id);
         }
-        if self.failed_parts.contains(&n.name) {
+        if self.failed_parts.contains(n.name) {
             return None;
         }
-        let names: Vec<String> = self.part_index.keys().cloned().collect();
+        let names = self.candidates(|e| e.part_names().collect());
         self.unknown(
             n,
             "a part",
@@ -1596,7 +1772,7 @@ impl<'a> Elaborator<'a> {
 
     fn probe(
         &mut self,
-        p: &ProbeStmt,
+        p: &ProbeStmt<'a>,
         span: Span,
         circuit: &Circuit,
         scope: &Scope,
@@ -1634,7 +1810,7 @@ impl<'a> Elaborator<'a> {
             None => None,
         };
         Some(Probe {
-            name: p.name.name.clone(),
+            name: p.name.name.to_string(),
             kind,
             reference,
             span,
@@ -1648,19 +1824,21 @@ impl<'a> Elaborator<'a> {
                 if let Some(i) = circuit.probes.iter().position(|p| p.name == n.name) {
                     return Some(Target::Probe(ProbeId(i as u32)));
                 }
-                if let Some(&id) = self.node_index.get(&n.name) {
+                if let Some(id) = self.find_node(n.name) {
                     return Some(Target::Node(id));
                 }
-                if allow_part && let Some(&id) = self.part_index.get(&n.name) {
+                if allow_part && let Some(id) = self.find_part(n.name) {
                     return Some(Target::Part(id));
                 }
-                let mut candidates: Vec<&str> =
-                    circuit.probes.iter().map(|p| p.name.as_str()).collect();
-                candidates.extend(self.nodes.iter().map(String::as_str));
-                if allow_part {
-                    candidates.extend(self.part_index.keys().map(String::as_str));
-                }
-                let candidates: Vec<String> = candidates.into_iter().map(str::to_string).collect();
+                let candidates = self.candidates(|e| {
+                    let mut all: Vec<String> =
+                        circuit.probes.iter().map(|p| p.name.clone()).collect();
+                    all.extend(e.nodes.iter().cloned());
+                    if allow_part {
+                        all.extend(e.part_names());
+                    }
+                    all
+                });
                 let what = if allow_part {
                     "a node, a part or a probe"
                 } else {
@@ -1683,14 +1861,14 @@ impl<'a> Elaborator<'a> {
         circuit: &Circuit,
         scope: &Scope,
     ) -> Option<Expectation> {
-        let Some((template, n_freqs, unit)) = metric_kind(&x.metric.name) else {
+        let Some((template, n_freqs, unit)) = metric_kind(x.metric.name) else {
             let mut d = Diagnostic::error(
                 DiagnosticKind::UnknownName,
                 x.metric.span,
                 format!("unknown metric `{}`", x.metric.name),
             )
             .with_expected("expected a metric such as `cutoff`, `gain` or `bias`");
-            if let Some(close) = similar(&x.metric.name, METRICS.iter().copied()) {
+            if let Some(close) = similar(x.metric.name, METRICS.iter().copied()) {
                 d.help = Some(format!("did you mean `{close}`?"));
             }
             self.diags.push(d);
@@ -1939,9 +2117,8 @@ impl<'a> Elaborator<'a> {
         let n = nodes.len();
         let mut parent: Vec<u32> = (0..n as u32).collect();
         for part in parts {
-            for (a, b) in conductive_pairs(&part.kind) {
-                union(&mut parent, a.0, b.0);
-            }
+            let (a, b) = conductive_pair(&part.kind);
+            union(&mut parent, a.0, b.0);
         }
         let ground = find(&mut parent, 0);
         let mut groups: HashMap<u32, Vec<usize>> = HashMap::new();
@@ -2083,21 +2260,21 @@ fn for_each_node(kind: &mut PartKind, mut f: impl FnMut(&mut NodeId)) {
     }
 }
 
-/// The node pairs a part connects for the "path to gnd" check (capacitors count).
-fn conductive_pairs(kind: &PartKind) -> Vec<(NodeId, NodeId)> {
+/// The node pair a part connects for the "path to gnd" check (capacitors count).
+fn conductive_pair(kind: &PartKind) -> (NodeId, NodeId) {
     match *kind {
         PartKind::Resistor { a, b, .. }
         | PartKind::Capacitor { a, b, .. }
-        | PartKind::Inductor { a, b, .. } => vec![(a, b)],
-        PartKind::VoltageSource { pos, neg, .. } => vec![(pos, neg)],
-        PartKind::CurrentSource { from, to, .. } => vec![(from, to)],
+        | PartKind::Inductor { a, b, .. } => (a, b),
+        PartKind::VoltageSource { pos, neg, .. } => (pos, neg),
+        PartKind::CurrentSource { from, to, .. } => (from, to),
         PartKind::Vcvs {
             out_pos, out_neg, ..
         }
         | PartKind::Vccs {
             out_pos, out_neg, ..
-        } => vec![(out_pos, out_neg)],
-        PartKind::OpAmp { out, .. } => vec![(out, NodeId::GND)],
+        } => (out_pos, out_neg),
+        PartKind::OpAmp { out, .. } => (out, NodeId::GND),
     }
 }
 

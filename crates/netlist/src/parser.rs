@@ -1,6 +1,6 @@
 //! The grammar: `nom` parsers from text to the syntax tree, one line at a time.
 //!
-//! Every line is parsed on its own (`complete` parsers over a `LocatedSpan` of that
+//! Every line is parsed on its own (`complete` parsers over the `&str` of that
 //! line), so an error on one line never hides the next; `block … end` is put
 //! together afterwards from the line statements. Once a statement keyword is read the
 //! rest of the line is under `cut`, so errors land on the real token rather than on
@@ -19,14 +19,45 @@ use nom::character::complete::digit1;
 use nom::combinator::cut;
 use nom::error::{ErrorKind, ParseError, context};
 use nom::{IResult, Input, Parser};
-use nom_locate::LocatedSpan;
+use std::cell::Cell;
 
 /// The deepest nesting of parentheses, signs and powers an expression may have.
 pub const MAX_DEPTH: u32 = 64;
 /// The longest line accepted, in bytes.
 pub const MAX_LINE: usize = 64 * 1024;
 
-type In<'a> = LocatedSpan<&'a str>;
+type In<'a> = &'a str;
+
+thread_local! {
+    /// The address of the text being parsed, so a suffix's byte offset is a pointer
+    /// difference. (`nom_locate` spans did this too, but counting lines on every
+    /// token cost more than the rest of the parser.)
+    static BASE: Cell<usize> = const { Cell::new(0) };
+}
+
+/// Byte offsets and fragments of the input, in the names `nom_locate` uses.
+trait Located<'a> {
+    fn location_offset(&self) -> usize;
+    fn fragment(&self) -> &&'a str;
+}
+
+impl<'a> Located<'a> for &'a str {
+    fn location_offset(&self) -> usize {
+        (self.as_ptr() as usize).wrapping_sub(BASE.with(Cell::get))
+    }
+
+    fn fragment(&self) -> &&'a str {
+        self
+    }
+}
+
+/// Runs `f` with offsets measured from the start of `text`.
+fn with_base<T>(text: &str, f: impl FnOnce() -> T) -> T {
+    let previous = BASE.with(|b| b.replace(text.as_ptr() as usize));
+    let out = f();
+    BASE.with(|b| b.set(previous));
+    out
+}
 type PResult<'a, T> = IResult<In<'a>, T, PError>;
 
 /// The parser's error: where, what was expected, and optionally a full custom message.
@@ -215,7 +246,7 @@ fn peek_sym(i: &In<'_>, s: &str) -> bool {
 }
 
 /// A plain word `[A-Za-z_][A-Za-z0-9_]*` (keywords, metric and block names).
-fn word(i: In<'_>) -> PResult<'_, Ident> {
+fn word(i: In<'_>) -> PResult<'_, Ident<'_>> {
     let (i, ()) = ws(i)?;
     let start = i;
     if !i.fragment().chars().next().is_some_and(is_ident_start) {
@@ -225,7 +256,7 @@ fn word(i: In<'_>) -> PResult<'_, Ident> {
     Ok((
         i,
         Ident {
-            name: (*text.fragment()).to_string(),
+            name: text,
             span: span_of(&start, &i),
         },
     ))
@@ -245,7 +276,7 @@ fn keyword<'a>(kw: &'static str) -> impl Fn(In<'a>) -> PResult<'a, Span> {
 }
 
 /// A name, possibly qualified with dots (`R1`, `S1.C`, `LAD.s2.R`).
-fn name(i: In<'_>) -> PResult<'_, Ident> {
+fn name(i: In<'_>) -> PResult<'_, Ident<'_>> {
     let (i, ()) = ws(i)?;
     let start = i;
     let mut end = 0;
@@ -273,14 +304,14 @@ fn name(i: In<'_>) -> PResult<'_, Ident> {
     Ok((
         rest,
         Ident {
-            name: (*text.fragment()).to_string(),
+            name: text,
             span: span_of(&start, &rest),
         },
     ))
 }
 
 /// A node name in a connection list, with the refusals for `GND` and `0`.
-fn node(i: In<'_>) -> PResult<'_, Ident> {
+fn node(i: In<'_>) -> PResult<'_, Ident<'_>> {
     let (i, ()) = ws(i)?;
     if i.fragment().starts_with(|c: char| c.is_ascii_digit()) {
         let len = i
@@ -325,12 +356,14 @@ fn node(i: In<'_>) -> PResult<'_, Ident> {
 }
 
 /// `( node, node, … )`: a connection list of at least one node.
-fn node_list(i: In<'_>) -> PResult<'_, (Vec<Ident>, Span)> {
+fn node_list(i: In<'_>) -> PResult<'_, (Vec<Ident<'_>>, Span)> {
     let (i, ()) = ws(i)?;
     let start = i;
     let (i, ()) = sym("(", "`(` and the nodes")(i)?;
     let (mut i, first) = cut_err(node(i))?;
-    let mut nodes = vec![first];
+    // Two nodes is the usual list: one exact allocation, no growth.
+    let mut nodes = Vec::with_capacity(2);
+    nodes.push(first);
     loop {
         if let Ok((j, ())) = sym(",", "")(i) {
             let (j, n) = cut_err(node(j))?;
@@ -347,14 +380,15 @@ fn node_list(i: In<'_>) -> PResult<'_, (Vec<Ident>, Span)> {
 
 /// A number literal: digits, fraction, exponent, an IEC 60062 value code (`4k7`,
 /// `0R47`), an optional SI prefix and an optional unit, glued or after a blank.
-fn literal(i: In<'_>) -> PResult<'_, (Literal, Span)> {
+fn literal(i: In<'_>) -> PResult<'_, (Literal<'_>, Span)> {
     let start = i;
     let Ok((i, int)) = digit1::<_, PError>(i) else {
         return err(&i, "a number");
     };
     let mut lit = Literal {
         negative: false,
-        digits: (*int.fragment()).to_string(),
+        int,
+        frac: "",
         exponent: 0,
         prefix: None,
         unit: None,
@@ -370,8 +404,8 @@ fn literal(i: In<'_>) -> PResult<'_, (Literal, Span)> {
     {
         let (i, _) = i.take_split(c.len_utf8());
         let (i, frac) = digit1::<_, PError>(i)?;
-        lit.digits.push_str(frac.fragment());
-        lit.exponent = -(frac.fragment().len() as i64);
+        lit.frac = frac;
+        lit.exponent = -(frac.len() as i64);
         if c == 'R' {
             lit.unit = Some(UnitSym::Ohm);
         } else {
@@ -415,8 +449,8 @@ fn literal(i: In<'_>) -> PResult<'_, (Literal, Span)> {
     }
     let mut i = i;
     if let Ok((j, frac)) = (tag::<_, _, PError>("."), digit1::<_, PError>).parse(i) {
-        lit.digits.push_str(frac.1.fragment());
-        lit.exponent = -(frac.1.fragment().len() as i64);
+        lit.frac = frac.1;
+        lit.exponent = -(frac.1.len() as i64);
         i = j;
     }
     if let Some((j, e)) = exponent(i) {
@@ -450,7 +484,11 @@ fn exponent(i: In<'_>) -> Option<(In<'_>, i64)> {
     Some((j, if negative { -value } else { value }))
 }
 
-fn finish_literal<'a>(start: In<'a>, i: In<'a>, mut lit: Literal) -> PResult<'a, (Literal, Span)> {
+fn finish_literal<'a>(
+    start: In<'a>,
+    i: In<'a>,
+    mut lit: Literal<'a>,
+) -> PResult<'a, (Literal<'a>, Span)> {
     let span = span_of(&start, &i);
     match lit.cache() {
         Ok(_) => Ok((i, (lit, span))),
@@ -586,7 +624,7 @@ fn bad_suffix(i: &In<'_>, start: &In<'_>, word: &str) -> PError {
 }
 
 /// A literal with an optional sign (`-`, `+`, or the typographic minus U+2212).
-fn signed_literal(i: In<'_>) -> PResult<'_, (Literal, Span)> {
+fn signed_literal(i: In<'_>) -> PResult<'_, (Literal<'_>, Span)> {
     let (i, ()) = ws(i)?;
     let start = i;
     let (i, negative) = sign(i);
@@ -630,7 +668,7 @@ fn too_deep(i: &In<'_>) -> nom::Err<PError> {
     )
 }
 
-fn binary(op: BinOp, lhs: Expr, rhs: Expr) -> Expr {
+fn binary<'s>(op: BinOp, lhs: Expr<'s>, rhs: Expr<'s>) -> Expr<'s> {
     let span = lhs.span.join(rhs.span);
     Expr {
         kind: ExprKind::Binary(op, Box::new(lhs), Box::new(rhs)),
@@ -639,7 +677,7 @@ fn binary(op: BinOp, lhs: Expr, rhs: Expr) -> Expr {
 }
 
 /// `expr := term (("+" | "-") term)*`
-pub(crate) fn expr(i: In<'_>, depth: u32) -> PResult<'_, Expr> {
+pub(crate) fn expr(i: In<'_>, depth: u32) -> PResult<'_, Expr<'_>> {
     let (mut i, mut lhs) = term(i, depth)?;
     loop {
         let (j, ()) = ws(i)?;
@@ -660,7 +698,7 @@ pub(crate) fn expr(i: In<'_>, depth: u32) -> PResult<'_, Expr> {
 }
 
 /// `term := unary (("*" | "/") unary)*`
-fn term(i: In<'_>, depth: u32) -> PResult<'_, Expr> {
+fn term(i: In<'_>, depth: u32) -> PResult<'_, Expr<'_>> {
     let (mut i, mut lhs) = unary(i, depth)?;
     loop {
         let (j, ()) = ws(i)?;
@@ -679,7 +717,7 @@ fn term(i: In<'_>, depth: u32) -> PResult<'_, Expr> {
 }
 
 /// `unary := ("-" | "+") unary | power`
-fn unary(i: In<'_>, depth: u32) -> PResult<'_, Expr> {
+fn unary(i: In<'_>, depth: u32) -> PResult<'_, Expr<'_>> {
     let (i, ()) = ws(i)?;
     let start = i;
     let (j, s) = sign(i);
@@ -702,7 +740,7 @@ fn unary(i: In<'_>, depth: u32) -> PResult<'_, Expr> {
 }
 
 /// `power := atom ("^" unary)?` (right-associative)
-fn power(i: In<'_>, depth: u32) -> PResult<'_, Expr> {
+fn power(i: In<'_>, depth: u32) -> PResult<'_, Expr<'_>> {
     let (i, base) = atom(i, depth)?;
     let (j, ()) = ws(i)?;
     if j.fragment().starts_with('^') {
@@ -716,7 +754,7 @@ fn power(i: In<'_>, depth: u32) -> PResult<'_, Expr> {
 }
 
 /// `atom := number | "pi" | function "(" args ")" | name | "(" expr ")"`
-fn atom(i: In<'_>, depth: u32) -> PResult<'_, Expr> {
+fn atom(i: In<'_>, depth: u32) -> PResult<'_, Expr<'_>> {
     let (i, ()) = ws(i)?;
     let start = i;
     let frag = i.fragment();
@@ -756,7 +794,7 @@ fn atom(i: In<'_>, depth: u32) -> PResult<'_, Expr> {
             },
         ));
     }
-    if let Some(func) = Func::from_name(&id.name).filter(|_| j.fragment().starts_with('(')) {
+    if let Some(func) = Func::from_name(id.name).filter(|_| j.fragment().starts_with('(')) {
         return call(j, start, func, depth);
     }
     Ok((
@@ -768,7 +806,7 @@ fn atom(i: In<'_>, depth: u32) -> PResult<'_, Expr> {
     ))
 }
 
-fn call<'a>(i: In<'a>, start: In<'a>, func: Func, depth: u32) -> PResult<'a, Expr> {
+fn call<'a>(i: In<'a>, start: In<'a>, func: Func, depth: u32) -> PResult<'a, Expr<'a>> {
     if depth >= MAX_DEPTH {
         return Err(too_deep(&i));
     }
@@ -808,7 +846,7 @@ fn call<'a>(i: In<'a>, start: In<'a>, func: Func, depth: u32) -> PResult<'a, Exp
 
 /// A value where the grammar expects one: a signed literal, a name, a function call
 /// or a parenthesised expression.
-fn value(i: In<'_>) -> PResult<'_, Expr> {
+fn value(i: In<'_>) -> PResult<'_, Expr<'_>> {
     let (i, ()) = ws(i)?;
     let frag = i.fragment();
     if frag.starts_with(|c: char| c.is_ascii_digit() || c == '-' || c == '+' || c == '\u{2212}')
@@ -845,7 +883,7 @@ fn share_unit(low: &mut Expr, high: &Expr) {
 }
 
 /// `value ".." value`, the lower end sharing the upper end's unit.
-fn range(i: In<'_>) -> PResult<'_, (Expr, Expr)> {
+fn range(i: In<'_>) -> PResult<'_, (Expr<'_>, Expr<'_>)> {
     let (i, mut low) = value(i)?;
     let (i, ()) = cut_err(sym("..", "`..` and the upper end")(i))?;
     let (i, high) = cut_err(value(i))?;
@@ -878,7 +916,7 @@ pub(crate) const KEYWORDS: &[&str] = &[
 ];
 
 /// One line's statement (comment already removed).
-fn statement(i: In<'_>) -> PResult<'_, StmtKind> {
+fn statement(i: In<'_>) -> PResult<'_, StmtKind<'_>> {
     let (i, ()) = ws(i)?;
     let Ok((_, kw)) = word(i) else {
         return fail(not_a_statement(&i));
@@ -886,7 +924,7 @@ fn statement(i: In<'_>) -> PResult<'_, StmtKind> {
     let (rest, _) = word(i)?;
     // Once the keyword is known the line is committed: `cut` keeps errors on the real
     // token, and `context` names the statement in the message.
-    let (rest, stmt) = match kw.name.as_str() {
+    let (rest, stmt) = match kw.name {
         "title" => cut(context("a `title` line", title)).parse(rest),
         "let" => cut(context("a `let` line", let_stmt)).parse(rest),
         "drive" => cut(context("a `drive` line", |i| {
@@ -944,7 +982,7 @@ fn unknown_keyword(kw: &Ident) -> PError {
     let lower = kw.name.to_ascii_lowercase();
     let help = if KEYWORDS.contains(&lower.as_str()) {
         format!("keywords are lower case: write `{lower}`")
-    } else if let Some(close) = crate::elaborate::similar(&kw.name, KEYWORDS.iter().copied()) {
+    } else if let Some(close) = crate::elaborate::similar(kw.name, KEYWORDS.iter().copied()) {
         format!("did you mean `{close}`?")
     } else {
         "a line starts with a statement keyword; the kind of a part is written out (`resistor R1 (a, b) 1k`), never taken from its name".into()
@@ -960,7 +998,7 @@ fn unknown_keyword(kw: &Ident) -> PError {
 }
 
 /// `title "text"`
-fn title(i: In<'_>) -> PResult<'_, StmtKind> {
+fn title(i: In<'_>) -> PResult<'_, StmtKind<'_>> {
     let (i, ()) = ws(i)?;
     if !i.fragment().starts_with('"') {
         return err(&i, "a quoted title (`\"…\"`)");
@@ -1000,7 +1038,7 @@ fn title(i: In<'_>) -> PResult<'_, StmtKind> {
 }
 
 /// `let name = expr`
-fn let_stmt(i: In<'_>) -> PResult<'_, StmtKind> {
+fn let_stmt(i: In<'_>) -> PResult<'_, StmtKind<'_>> {
     let (i, n) = word(i)?;
     let (i, ()) = sym("=", "`=`")(i)?;
     let (i, e) = expr(i, 0)?;
@@ -1008,7 +1046,7 @@ fn let_stmt(i: In<'_>) -> PResult<'_, StmtKind> {
 }
 
 /// `<kind> name (nodes) [from (nodes)] [value] [options]`
-fn part(i: In<'_>, keyword_kind: PartKeyword) -> PResult<'_, StmtKind> {
+fn part(i: In<'_>, keyword_kind: PartKeyword) -> PResult<'_, StmtKind<'_>> {
     let (i, n) = name(i)?;
     let (i, (nodes, _)) = node_list(i)?;
     let (mut i, from) = if keyword_kind.has_from() {
@@ -1024,9 +1062,7 @@ fn part(i: In<'_>, keyword_kind: PartKeyword) -> PResult<'_, StmtKind> {
     if keyword_kind.has_value() {
         let (j, ()) = ws(i)?;
         let next = word(j).ok().map(|(_, w)| w.name);
-        let is_option = next
-            .as_deref()
-            .is_some_and(|w| keyword_kind.options().contains(&w));
+        let is_option = next.is_some_and(|w| keyword_kind.options().contains(&w));
         if j.fragment().starts_with('?') {
             let (j2, v) = fit_value(j)?;
             value_syntax = Some(v);
@@ -1054,7 +1090,7 @@ fn part(i: In<'_>, keyword_kind: PartKeyword) -> PResult<'_, StmtKind> {
 }
 
 /// `?` or `? in lo .. hi`
-fn fit_value(i: In<'_>) -> PResult<'_, PartValue> {
+fn fit_value(i: In<'_>) -> PResult<'_, PartValue<'_>> {
     let start = i;
     let i = i.take_from(1);
     if let Ok((j, _)) = keyword("in")(i) {
@@ -1076,9 +1112,10 @@ fn fit_value(i: In<'_>) -> PResult<'_, PartValue> {
     ))
 }
 
-fn part_options(mut i: In<'_>, k: PartKeyword) -> PResult<'_, Vec<(PartOption, Span)>> {
+fn part_options(mut i: In<'_>, k: PartKeyword) -> PResult<'_, Vec<(PartOption<'_>, Span)>> {
     let mut options: Vec<(PartOption, Span)> = Vec::new();
-    let mut seen: Vec<&'static str> = Vec::new();
+    // Bit `k` set: option `k` of `k.options()` was given (a kind has at most three).
+    let mut seen = 0u8;
     loop {
         let (j, ()) = ws(i)?;
         if j.fragment().is_empty() {
@@ -1087,10 +1124,11 @@ fn part_options(mut i: In<'_>, k: PartKeyword) -> PResult<'_, Vec<(PartOption, S
         let Ok((after, w)) = word(j) else {
             return err(&j, option_expectation(k));
         };
-        let Some(&option) = k.options().iter().find(|&&o| o == w.name) else {
+        let Some(index) = k.options().iter().position(|&o| o == w.name) else {
             return fail(bad_option(&w, k));
         };
-        if seen.contains(&option) {
+        let option = k.options()[index];
+        if seen & (1 << index) != 0 {
             return fail(
                 PError::custom(
                     w.span.start,
@@ -1101,7 +1139,11 @@ fn part_options(mut i: In<'_>, k: PartKeyword) -> PResult<'_, Vec<(PartOption, S
                 .label("second one here"),
             );
         }
-        seen.push(option);
+        seen |= 1 << index;
+        if options.is_empty() {
+            // One option is the usual case, and an option is large: no spare room.
+            options.reserve_exact(1);
+        }
         let (after, parsed) = match option {
             "polar" => (after, PartOption::Polar),
             "tol" => {
@@ -1145,7 +1187,7 @@ fn bad_option(w: &Ident, k: PartKeyword) -> PError {
     let all = [
         "tol", "rated", "polar", "phase", "bias", "rs", "rp", "gain", "gm", "gbw", "swing",
     ];
-    let message = if all.contains(&w.name.as_str()) {
+    let message = if all.contains(&w.name) {
         format!("`{}` is not an option of a `{}`", w.name, k.word())
     } else {
         format!("unexpected `{}`", w.name)
@@ -1162,7 +1204,7 @@ fn bad_option(w: &Ident, k: PartKeyword) -> PError {
 }
 
 /// `block name (pins) [param = value, …]`
-fn block_header(i: In<'_>) -> PResult<'_, StmtKind> {
+fn block_header(i: In<'_>) -> PResult<'_, StmtKind<'_>> {
     let (i, n) = word(i)?;
     let (i, (pins, _)) = node_list(i)?;
     let (i, params) = assignments(i)?;
@@ -1178,7 +1220,7 @@ fn block_header(i: In<'_>) -> PResult<'_, StmtKind> {
 }
 
 /// `name = value, name = value`, possibly empty.
-fn assignments(i: In<'_>) -> PResult<'_, Vec<(Ident, Expr)>> {
+fn assignments(i: In<'_>) -> PResult<'_, Vec<(Ident<'_>, Expr<'_>)>> {
     let mut out = Vec::new();
     let (j, ()) = ws(i)?;
     if j.fragment().is_empty() {
@@ -1198,7 +1240,7 @@ fn assignments(i: In<'_>) -> PResult<'_, Vec<(Ident, Expr)>> {
 }
 
 /// `use block name (nodes) [param = value, …]`
-fn use_stmt(i: In<'_>, chain: Option<(u64, Span)>) -> PResult<'_, StmtKind> {
+fn use_stmt(i: In<'_>, chain: Option<(u64, Span)>) -> PResult<'_, StmtKind<'_>> {
     let (i, block) = word(i)?;
     let (i, n) = name(i)?;
     let (i, (nodes, nodes_span)) = node_list(i)?;
@@ -1217,7 +1259,7 @@ fn use_stmt(i: In<'_>, chain: Option<(u64, Span)>) -> PResult<'_, StmtKind> {
 }
 
 /// `chain N block name (in, out) [param = value, …]`
-fn chain_stmt(i: In<'_>) -> PResult<'_, StmtKind> {
+fn chain_stmt(i: In<'_>) -> PResult<'_, StmtKind<'_>> {
     let (i, ()) = ws(i)?;
     let start = i;
     let Ok((i, digits)) = digit1::<_, PError>(i) else {
@@ -1229,7 +1271,7 @@ fn chain_stmt(i: In<'_>) -> PResult<'_, StmtKind> {
 }
 
 /// `sweep F to F per_decade N`, `sweep F to F every DF`, `sweep at F, F, …`
-fn sweep(i: In<'_>) -> PResult<'_, StmtKind> {
+fn sweep(i: In<'_>) -> PResult<'_, StmtKind<'_>> {
     if let Ok((i, _)) = keyword("at")(i) {
         let (mut i, first) = value(i)?;
         let mut points = vec![first];
@@ -1262,7 +1304,7 @@ fn sweep(i: In<'_>) -> PResult<'_, StmtKind> {
 }
 
 /// `probe node`, `probe zin`, `probe name = …`, each with an optional `ref F`.
-fn probe(i: In<'_>) -> PResult<'_, StmtKind> {
+fn probe(i: In<'_>) -> PResult<'_, StmtKind<'_>> {
     let (i, first) = name(i)?;
     let (i, what) = if peek_sym(&i, "=") && !peek_sym(&i, "==") {
         let (i, ()) = sym("=", "")(i)?;
@@ -1289,7 +1331,7 @@ fn probe(i: In<'_>) -> PResult<'_, StmtKind> {
     ))
 }
 
-fn probe_definition(i: In<'_>) -> PResult<'_, ProbeWhat> {
+fn probe_definition(i: In<'_>) -> PResult<'_, ProbeWhat<'_>> {
     if let Ok((i, _)) = keyword("current")(i) {
         let (i, p) = name(i)?;
         return Ok((i, ProbeWhat::Current(p)));
@@ -1316,7 +1358,7 @@ fn probe_definition(i: In<'_>) -> PResult<'_, ProbeWhat> {
 }
 
 /// `expect metric(target, args…) comparison`
-fn expect(i: In<'_>) -> PResult<'_, StmtKind> {
+fn expect(i: In<'_>) -> PResult<'_, StmtKind<'_>> {
     let (i, metric) = word(i)?;
     let (i, ()) = sym("(", "`(` and what to measure")(i)?;
     let (i, target) = if let Ok((i, _)) = keyword("current")(i) {
@@ -1355,7 +1397,7 @@ fn expect(i: In<'_>) -> PResult<'_, StmtKind> {
     ))
 }
 
-fn comparison(i: In<'_>) -> PResult<'_, CmpSyntax> {
+fn comparison(i: In<'_>) -> PResult<'_, CmpSyntax<'_>> {
     let (i, ()) = ws(i)?;
     if let Ok((j, _)) = keyword("within")(i) {
         let (j, (low, high)) = range(j)?;
@@ -1414,11 +1456,15 @@ fn comment_start(line: &str) -> usize {
 }
 
 /// Parses a whole source: every line's statement, blocks grouped, and every error.
-pub(crate) fn parse(source: &str) -> (Vec<Stmt>, Vec<Diagnostic>) {
+pub(crate) fn parse(source: &str) -> (Vec<Stmt<'_>>, Vec<Diagnostic>) {
+    with_base(source, || parse_lines(source))
+}
+
+fn parse_lines(source: &str) -> (Vec<Stmt<'_>>, Vec<Diagnostic>) {
     let n_lines = source.bytes().filter(|&b| b == b'\n').count() + 1;
     let mut statements = Vec::with_capacity(n_lines);
     let mut diagnostics = Vec::new();
-    let mut rest = LocatedSpan::new(source);
+    let mut rest: In<'_> = source;
     while !rest.fragment().is_empty() {
         let frag = *rest.fragment();
         let line_len = frag.find('\n').unwrap_or(frag.len());
@@ -1468,8 +1514,12 @@ pub(crate) fn parse(source: &str) -> (Vec<Stmt>, Vec<Diagnostic>) {
 }
 
 /// Parses an expression on its own (a `--set` value); spans are relative to `text`.
-pub(crate) fn parse_expression(text: &str) -> Result<Expr, Diagnostic> {
-    let input = LocatedSpan::new(text);
+pub(crate) fn parse_expression(text: &str) -> Result<Expr<'_>, Diagnostic> {
+    with_base(text, || parse_expression_text(text))
+}
+
+fn parse_expression_text(text: &str) -> Result<Expr<'_>, Diagnostic> {
+    let input: In<'_> = text;
     match expr(input, 0) {
         Ok((rest, e)) => {
             let (rest, ()) = ws(rest).map_err(|_| {
@@ -1491,7 +1541,7 @@ pub(crate) fn parse_expression(text: &str) -> Result<Expr, Diagnostic> {
 }
 
 /// Puts `block … end` together and checks what may appear inside a block.
-fn group_blocks(statements: Vec<Stmt>, diagnostics: &mut Vec<Diagnostic>) -> Vec<Stmt> {
+fn group_blocks<'s>(statements: Vec<Stmt<'s>>, diagnostics: &mut Vec<Diagnostic>) -> Vec<Stmt<'s>> {
     let has_blocks = statements
         .iter()
         .any(|s| matches!(s.kind, StmtKind::BlockStart(_) | StmtKind::End));

@@ -6,8 +6,8 @@ use crate::units::Literal;
 
 /// A name as written, with its span.
 #[derive(Debug, Clone, PartialEq)]
-pub(crate) struct Ident {
-    pub name: String,
+pub(crate) struct Ident<'s> {
+    pub name: &'s str,
     pub span: Span,
 }
 
@@ -57,29 +57,29 @@ impl Func {
 
 /// An expression node.
 #[derive(Debug, Clone, PartialEq)]
-pub(crate) enum ExprKind {
-    Number(Literal),
-    Name(String),
+pub(crate) enum ExprKind<'s> {
+    Number(Literal<'s>),
+    Name(&'s str),
     Pi,
-    Neg(Box<Expr>),
-    Binary(BinOp, Box<Expr>, Box<Expr>),
-    Call(Func, Vec<Expr>),
+    Neg(Box<Expr<'s>>),
+    Binary(BinOp, Box<Expr<'s>>, Box<Expr<'s>>),
+    Call(Func, Vec<Expr<'s>>),
 }
 
 /// An expression with its span.
 #[derive(Debug, Clone, PartialEq)]
-pub(crate) struct Expr {
-    pub kind: ExprKind,
+pub(crate) struct Expr<'s> {
+    pub kind: ExprKind<'s>,
     pub span: Span,
 }
 
 /// The value of a passive part: an expression, or `?` (to be fitted) with an optional
 /// range.
 #[derive(Debug, Clone, PartialEq)]
-pub(crate) enum PartValue {
-    Expr(Expr),
+pub(crate) enum PartValue<'s> {
+    Expr(Expr<'s>),
     Fit {
-        range: Option<(Expr, Expr)>,
+        range: Option<(Expr<'s>, Expr<'s>)>,
         span: Span,
     },
 }
@@ -167,139 +167,139 @@ impl PartKeyword {
 
 /// One option on a part line.
 #[derive(Debug, Clone, PartialEq)]
-pub(crate) enum PartOption {
+pub(crate) enum PartOption<'s> {
     /// `tol x` or `tol lo .. hi`.
-    Tol(Expr, Option<Expr>),
+    Tol(Expr<'s>, Option<Expr<'s>>),
     Polar,
     /// `swing lo .. hi`.
-    Swing(Expr, Expr),
+    Swing(Expr<'s>, Expr<'s>),
     /// Any option with one value: `rated`, `phase`, `bias`, `rs`, `rp`, `gain`, `gm`, `gbw`.
-    Value(&'static str, Expr),
+    Value(&'static str, Expr<'s>),
 }
 
 /// A part line.
 #[derive(Debug, Clone, PartialEq)]
-pub(crate) struct PartStmt {
+pub(crate) struct PartStmt<'s> {
     pub keyword: PartKeyword,
-    pub name: Ident,
-    pub nodes: Vec<Ident>,
-    pub from: Vec<Ident>,
-    pub value: Option<PartValue>,
-    pub options: Vec<(PartOption, Span)>,
+    pub name: Ident<'s>,
+    pub nodes: Vec<Ident<'s>>,
+    pub from: Vec<Ident<'s>>,
+    pub value: Option<PartValue<'s>>,
+    pub options: Vec<(PartOption<'s>, Span)>,
 }
 
 /// `use` and `chain` lines.
 #[derive(Debug, Clone, PartialEq)]
-pub(crate) struct UseStmt {
+pub(crate) struct UseStmt<'s> {
     /// `Some((n, span))` for `chain n`.
     pub chain: Option<(u64, Span)>,
-    pub block: Ident,
-    pub name: Ident,
-    pub nodes: Vec<Ident>,
+    pub block: Ident<'s>,
+    pub name: Ident<'s>,
+    pub nodes: Vec<Ident<'s>>,
     pub nodes_span: Span,
-    pub overrides: Vec<(Ident, Expr)>,
+    pub overrides: Vec<(Ident<'s>, Expr<'s>)>,
 }
 
 /// A `sweep` line.
 #[derive(Debug, Clone, PartialEq)]
-pub(crate) enum SweepStmt {
+pub(crate) enum SweepStmt<'s> {
     Log {
-        start: Expr,
-        stop: Expr,
-        per_decade: Expr,
+        start: Expr<'s>,
+        stop: Expr<'s>,
+        per_decade: Expr<'s>,
     },
     Linear {
-        start: Expr,
-        stop: Expr,
-        step: Expr,
+        start: Expr<'s>,
+        stop: Expr<'s>,
+        step: Expr<'s>,
     },
-    List(Vec<Expr>),
+    List(Vec<Expr<'s>>),
 }
 
 /// What a `probe` measures, as written.
 #[derive(Debug, Clone, PartialEq)]
-pub(crate) enum ProbeWhat {
-    Node(Ident),
-    Ratio(Ident, Ident),
-    Difference(Ident, Ident),
-    Current(Ident),
+pub(crate) enum ProbeWhat<'s> {
+    Node(Ident<'s>),
+    Ratio(Ident<'s>, Ident<'s>),
+    Difference(Ident<'s>, Ident<'s>),
+    Current(Ident<'s>),
     Zin,
-    Zout(Ident),
+    Zout(Ident<'s>),
 }
 
 /// A `probe` line.
 #[derive(Debug, Clone, PartialEq)]
-pub(crate) struct ProbeStmt {
-    pub name: Ident,
-    pub what: ProbeWhat,
-    pub reference: Option<Expr>,
+pub(crate) struct ProbeStmt<'s> {
+    pub name: Ident<'s>,
+    pub what: ProbeWhat<'s>,
+    pub reference: Option<Expr<'s>>,
 }
 
 /// The target of a metric.
 #[derive(Debug, Clone, PartialEq)]
-pub(crate) enum TargetSyntax {
-    Name(Ident),
-    Current(Ident),
+pub(crate) enum TargetSyntax<'s> {
+    Name(Ident<'s>),
+    Current(Ident<'s>),
 }
 
 /// One argument of a metric after the target.
 #[derive(Debug, Clone, PartialEq)]
-pub(crate) enum MetricArg {
-    Value(Expr),
-    Ref(Expr, Span),
-    Level(Expr, Span),
+pub(crate) enum MetricArg<'s> {
+    Value(Expr<'s>),
+    Ref(Expr<'s>, Span),
+    Level(Expr<'s>, Span),
 }
 
 /// A comparison as written.
 #[derive(Debug, Clone, PartialEq)]
-pub(crate) enum CmpSyntax {
-    Less(Expr),
-    LessEqual(Expr),
-    Greater(Expr),
-    GreaterEqual(Expr),
-    Equal(Expr, Option<Expr>),
-    Within(Expr, Expr),
+pub(crate) enum CmpSyntax<'s> {
+    Less(Expr<'s>),
+    LessEqual(Expr<'s>),
+    Greater(Expr<'s>),
+    GreaterEqual(Expr<'s>),
+    Equal(Expr<'s>, Option<Expr<'s>>),
+    Within(Expr<'s>, Expr<'s>),
 }
 
 /// An `expect` line.
 #[derive(Debug, Clone, PartialEq)]
-pub(crate) struct ExpectStmt {
-    pub metric: Ident,
-    pub target: TargetSyntax,
-    pub args: Vec<MetricArg>,
-    pub comparison: CmpSyntax,
+pub(crate) struct ExpectStmt<'s> {
+    pub metric: Ident<'s>,
+    pub target: TargetSyntax<'s>,
+    pub args: Vec<MetricArg<'s>>,
+    pub comparison: CmpSyntax<'s>,
 }
 
 /// A block definition.
 #[derive(Debug, Clone, PartialEq)]
-pub(crate) struct BlockDef {
-    pub name: Ident,
-    pub pins: Vec<Ident>,
-    pub params: Vec<(Ident, Expr)>,
-    pub body: Vec<Stmt>,
+pub(crate) struct BlockDef<'s> {
+    pub name: Ident<'s>,
+    pub pins: Vec<Ident<'s>>,
+    pub params: Vec<(Ident<'s>, Expr<'s>)>,
+    pub body: Vec<Stmt<'s>>,
 }
 
 /// One statement.
 #[derive(Debug, Clone, PartialEq)]
-pub(crate) enum StmtKind {
+pub(crate) enum StmtKind<'s> {
     Title(String),
-    Let(Ident, Expr),
-    Part(PartStmt),
-    Drive(Ident),
-    Block(BlockDef),
+    Let(Ident<'s>, Expr<'s>),
+    Part(PartStmt<'s>),
+    Drive(Ident<'s>),
+    Block(BlockDef<'s>),
     /// `block` header (only between parsing and grouping).
-    BlockStart(BlockDef),
+    BlockStart(BlockDef<'s>),
     /// `end` (only between parsing and grouping).
     End,
-    Use(UseStmt),
-    Sweep(SweepStmt),
-    Probe(ProbeStmt),
-    Expect(ExpectStmt),
+    Use(UseStmt<'s>),
+    Sweep(SweepStmt<'s>),
+    Probe(ProbeStmt<'s>),
+    Expect(ExpectStmt<'s>),
 }
 
 /// A statement with the span of its line (without comment and trailing blanks).
 #[derive(Debug, Clone, PartialEq)]
-pub(crate) struct Stmt {
-    pub kind: StmtKind,
+pub(crate) struct Stmt<'s> {
+    pub kind: StmtKind<'s>,
     pub span: Span,
 }

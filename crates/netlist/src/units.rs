@@ -287,11 +287,13 @@ pub(crate) fn prefix_exponent(c: char) -> Option<i64> {
 /// A number literal as written: `digits × 10^exponent`, an optional SI prefix and an
 /// optional unit. Kept apart so a range's trailing unit can be given to a bare lower end.
 #[derive(Debug, Clone, PartialEq)]
-pub(crate) struct Literal {
+pub(crate) struct Literal<'s> {
     /// Sign (`-`, or the typographic minus).
     pub negative: bool,
-    /// All mantissa digits, without the decimal point.
-    pub digits: String,
+    /// The mantissa's integer digits.
+    pub int: &'s str,
+    /// The mantissa's fraction digits (after the point or the value-code letter).
+    pub frac: &'s str,
     /// The decimal exponent that places the point (from the fraction and `e…`).
     pub exponent: i64,
     /// The SI prefix exponent, if a prefix was written (or implied by a value code).
@@ -311,7 +313,7 @@ pub(crate) enum LiteralError {
     Underflow,
 }
 
-impl Literal {
+impl Literal<'_> {
     /// The value in SI units (a percentage as a fraction, dB/oct as dB/dec), rounded
     /// once from the decimal text, so `4k7`, `4.7k` and `4700` are the same number.
     pub(crate) fn value(&self) -> Result<f64, LiteralError> {
@@ -335,14 +337,14 @@ impl Literal {
             exponent = exponent.saturating_sub(2);
         }
         let sign = if self.negative { "-" } else { "" };
-        let mut value = parse_decimal(sign, &self.digits, exponent)?;
+        let mut value = parse_decimal(sign, self.int, self.frac, exponent)?;
         if self.unit == Some(UnitSym::DbPerOctave) {
             value *= std::f64::consts::LOG2_10;
         }
         if !value.is_finite() {
             return Err(LiteralError::Overflow);
         }
-        if value == 0.0 && self.digits.bytes().any(|b| b != b'0') {
+        if value == 0.0 && self.int.bytes().chain(self.frac.bytes()).any(|b| b != b'0') {
             return Err(LiteralError::Underflow);
         }
         Ok(value)
@@ -356,19 +358,52 @@ impl Literal {
 
 /// Reads `sign digits e exponent` as a correctly rounded float, without allocating
 /// for the usual short literals.
-fn parse_decimal(sign: &str, digits: &str, exponent: i64) -> Result<f64, LiteralError> {
+fn parse_decimal(sign: &str, int: &str, frac: &str, exponent: i64) -> Result<f64, LiteralError> {
     use std::io::Write as _;
+    if let Some(v) = fast_decimal(int, frac, exponent) {
+        return Ok(if sign.is_empty() { v } else { -v });
+    }
     let mut buffer = [0u8; 64];
     let mut cursor = std::io::Cursor::new(&mut buffer[..]);
-    if write!(cursor, "{sign}{digits}e{exponent}").is_ok() {
+    if write!(cursor, "{sign}{int}{frac}e{exponent}").is_ok() {
         let len = cursor.position() as usize;
         if let Ok(text) = std::str::from_utf8(&buffer[..len]) {
             return text.parse().map_err(|_| LiteralError::Overflow);
         }
     }
-    format!("{sign}{digits}e{exponent}")
+    format!("{sign}{int}{frac}e{exponent}")
         .parse()
         .map_err(|_| LiteralError::Overflow)
+}
+
+/// The exact-arithmetic shortcut for short literals (Clinger's fast path, W. D.
+/// Clinger, "How to Read Floating Point Numbers Accurately", PLDI 1990): a mantissa
+/// below 2^53 and a power of ten up to 10^22 are both exact in a 64-bit float, so one
+/// multiplication or division rounds once, giving the correctly rounded value, the
+/// same as parsing the text. `None` when the literal is outside that range.
+fn fast_decimal(int: &str, frac: &str, exponent: i64) -> Option<f64> {
+    const POWERS: [f64; 23] = [
+        1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16,
+        1e17, 1e18, 1e19, 1e20, 1e21, 1e22,
+    ];
+    let mut mantissa: u64 = 0;
+    let mut significant = 0;
+    for b in int.bytes().chain(frac.bytes()) {
+        let digit = b.wrapping_sub(b'0');
+        if digit > 9 {
+            return None;
+        }
+        if mantissa != 0 || digit != 0 {
+            significant += 1;
+            if significant > 15 {
+                return None;
+            }
+        }
+        mantissa = mantissa * 10 + u64::from(digit);
+    }
+    let m = mantissa as f64;
+    let power = POWERS.get(usize::try_from(exponent.unsigned_abs()).ok()?)?;
+    Some(if exponent >= 0 { m * power } else { m / power })
 }
 
 /// Formats `value` as the shortest decimal text that reads back to exactly the same
@@ -423,4 +458,38 @@ pub(crate) fn format_prefixed(value: f64) -> (String, &'static str) {
         text.insert(0, '-');
     }
     (text, prefix)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::fast_decimal;
+    use proptest::prelude::*;
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(256))]
+
+        /// The exact shortcut agrees bit for bit with the standard library's correctly
+        /// rounded text parser wherever it applies.
+        #[test]
+        fn fast_path_matches_text_parse(
+            int in "[0-9]{1,12}",
+            frac in "[0-9]{0,6}",
+            exponent in -30i64..30,
+        ) {
+            let text = format!("{int}{frac}e{exponent}");
+            let expected: f64 = text.parse().unwrap_or(f64::NAN);
+            if let Some(v) = fast_decimal(&int, &frac, exponent) {
+                prop_assert_eq!(v.to_bits(), expected.to_bits(), "{}", text);
+            }
+        }
+    }
+
+    #[test]
+    fn fast_path_bounds() {
+        assert_eq!(fast_decimal("47", "", -1), Some(4.7));
+        assert_eq!(fast_decimal("1", "", 22), Some(1e22));
+        assert_eq!(fast_decimal("1", "", 23), None);
+        assert_eq!(fast_decimal("1234567890123456", "", 0), None);
+        assert_eq!(fast_decimal("000000000000000000001", "5", -1), Some(1.5));
+    }
 }
