@@ -56,30 +56,38 @@ impl<S: LinearSolver> Analyzer<S> {
         let np = probes.len();
         let block = freqs.len().div_ceil(blocks);
         let mut flat = vec![ZERO; freqs.len() * np];
-        let mut workers: Vec<Analyzer<S>> = (0..freqs.len().div_ceil(block))
+        // This analyzer solves the first block itself; the others get clones (a clone
+        // copies the circuit and the system: the parallel sweep's fixed cost).
+        let base = self.ill_count();
+        let mut clones: Vec<Analyzer<S>> = (1..freqs.len().div_ceil(block))
             .map(|_| self.clone())
             .collect();
-        let mut run = || {
-            workers
-                .par_iter_mut()
-                .zip(flat.par_chunks_mut(block * np))
-                .zip(freqs.par_chunks(block))
-                .map(|((worker, out), fs)| {
-                    for (f, slot) in fs.iter().zip(out.chunks_exact_mut(np)) {
-                        worker.transfer_many(probes, *f, slot)?;
-                    }
-                    Ok(())
-                })
-                .collect::<Vec<Result<(), MnaError>>>()
+        let outcomes = {
+            let mut workers: Vec<&mut Analyzer<S>> = std::iter::once(&mut *self)
+                .chain(clones.iter_mut())
+                .collect();
+            let mut run = || {
+                workers
+                    .par_iter_mut()
+                    .zip(flat.par_chunks_mut(block * np))
+                    .zip(freqs.par_chunks(block))
+                    .map(|((worker, out), fs)| {
+                        for (f, slot) in fs.iter().zip(out.chunks_exact_mut(np)) {
+                            worker.transfer_many(probes, *f, slot)?;
+                        }
+                        Ok(())
+                    })
+                    .collect::<Vec<Result<(), MnaError>>>()
+            };
+            match pool {
+                Some(p) => p.install(run),
+                None => run(),
+            }
         };
-        let outcomes = match pool {
-            Some(p) => p.install(run),
-            None => run(),
-        };
-        self.merge_warnings(&workers);
+        self.merge_warnings(&clones, base);
         // The worker that solved the last block leaves its factors as the serial sweep
         // would have left them.
-        if let Some(last) = workers.pop() {
+        if let Some(last) = clones.pop() {
             self.solver = last.solver;
             self.factored = last.factored;
             self.drive_solved = last.drive_solved;
@@ -102,15 +110,18 @@ impl<S: LinearSolver> Analyzer<S> {
         Ok(values)
     }
 
+    /// The count of the ill-conditioning record (0 without one).
+    fn ill_count(&self) -> usize {
+        match self.ill_warning.and_then(|i| self.warnings.get(i)) {
+            Some(MnaWarning::IllConditioned { count, .. }) => *count,
+            _ => 0,
+        }
+    }
+
     /// Folds the workers' ill-conditioning records into this analyzer's, in block
     /// order: counts add, and the worst frequency is the first with the largest
     /// estimate, as a serial sweep records it.
-    fn merge_warnings(&mut self, workers: &[Analyzer<S>]) {
-        let base = self.ill_warning.and_then(|i| match self.warnings.get(i) {
-            Some(MnaWarning::IllConditioned { count, .. }) => Some(*count),
-            _ => None,
-        });
-        let base = base.unwrap_or(0);
+    fn merge_warnings(&mut self, workers: &[Analyzer<S>], base: usize) {
         for w in workers {
             let Some(MnaWarning::IllConditioned {
                 freq_hz,
