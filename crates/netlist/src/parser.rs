@@ -14,7 +14,7 @@ use crate::syntax::{
     UseStmt,
 };
 use crate::units::{Literal, LiteralError, UnitSym, prefix_exponent};
-use nom::bytes::complete::{tag, take_while};
+use nom::bytes::complete::tag;
 use nom::character::complete::digit1;
 use nom::combinator::cut;
 use nom::error::{ErrorKind, ParseError, context};
@@ -216,27 +216,40 @@ fn span_of(start: &In<'_>, end: &In<'_>) -> Span {
     Span::new(start.location_offset(), end.location_offset())
 }
 
-fn is_ident_start(c: char) -> bool {
-    c.is_ascii_alphabetic() || c == '_'
-}
-
 fn is_ident_char(c: char) -> bool {
     c.is_ascii_alphanumeric() || c == '_'
 }
 
+/// Whether a byte may start a name, `[A-Za-z_]` (name characters are all ASCII, so
+/// scanning bytes finds the same ends as scanning characters).
+fn is_ident_start_byte(b: u8) -> bool {
+    b.is_ascii_alphabetic() || b == b'_'
+}
+
+/// The byte form of [`is_ident_char`].
+fn is_ident_byte(b: u8) -> bool {
+    b.is_ascii_alphanumeric() || b == b'_'
+}
+
+/// The length of the run of name characters at the start of `text`.
+fn ident_len(text: &str) -> usize {
+    text.bytes().take_while(|&b| is_ident_byte(b)).count()
+}
+
 /// Blanks (spaces and tabs) between tokens.
+#[allow(clippy::unnecessary_wraps)] // a parser like the others, used with `?`
 fn ws(i: In<'_>) -> PResult<'_, ()> {
-    let (i, _) = take_while(|c| c == ' ' || c == '\t').parse(i)?;
-    Ok((i, ()))
+    let n = i.bytes().take_while(|&b| b == b' ' || b == b'\t').count();
+    Ok((&i[n..], ()))
 }
 
 /// A symbol after optional blanks: grammar terminals such as `(`, `,`, `=`, `..`.
 fn sym<'a>(s: &'static str, expected: &'static str) -> impl Fn(In<'a>) -> PResult<'a, ()> {
     move |i: In<'a>| {
         let (i, ()) = ws(i)?;
-        match tag::<_, _, PError>(s).parse(i) {
-            Ok((rest, _)) => Ok((rest, ())),
-            Err(_) => err(&i, expected),
+        match i.strip_prefix(s) {
+            Some(rest) => Ok((rest, ())),
+            None => err(&i, expected),
         }
     }
 }
@@ -249,10 +262,14 @@ fn peek_sym(i: &In<'_>, s: &str) -> bool {
 fn word(i: In<'_>) -> PResult<'_, Ident<'_>> {
     let (i, ()) = ws(i)?;
     let start = i;
-    if !i.fragment().chars().next().is_some_and(is_ident_start) {
+    if !i
+        .as_bytes()
+        .first()
+        .is_some_and(|&b| is_ident_start_byte(b))
+    {
         return err(&i, "a name");
     }
-    let (i, text) = take_while(is_ident_char).parse(i)?;
+    let (text, i) = i.split_at(ident_len(i));
     Ok((
         i,
         Ident {
@@ -283,17 +300,15 @@ fn name(i: In<'_>) -> PResult<'_, Ident<'_>> {
     let frag = *i.fragment();
     let bytes = frag.as_bytes();
     loop {
-        if !frag[end..].chars().next().is_some_and(is_ident_start) {
+        if !bytes.get(end).is_some_and(|&b| is_ident_start_byte(b)) {
             if end == 0 {
                 return err(&i, "a name");
             }
             break;
         }
-        end += frag[end..]
-            .find(|c: char| !is_ident_char(c))
-            .unwrap_or(frag.len() - end);
+        end += ident_len(&frag[end..]);
         if bytes.get(end) == Some(&b'.')
-            && frag[end + 1..].chars().next().is_some_and(is_ident_start)
+            && bytes.get(end + 1).is_some_and(|&b| is_ident_start_byte(b))
         {
             end += 1;
         } else {
@@ -918,10 +933,9 @@ pub(crate) const KEYWORDS: &[&str] = &[
 /// One line's statement (comment already removed).
 fn statement(i: In<'_>) -> PResult<'_, StmtKind<'_>> {
     let (i, ()) = ws(i)?;
-    let Ok((_, kw)) = word(i) else {
+    let Ok((rest, kw)) = word(i) else {
         return fail(not_a_statement(&i));
     };
-    let (rest, _) = word(i)?;
     // Once the keyword is known the line is committed: `cut` keeps errors on the real
     // token, and `context` names the statement in the message.
     let (rest, stmt) = match kw.name {
@@ -1441,6 +1455,9 @@ fn comparison(i: In<'_>) -> PResult<'_, CmpSyntax<'_>> {
 
 /// Where a line's comment starts (a `#` outside a quoted title), or its length.
 fn comment_start(line: &str) -> usize {
+    if !line.contains('#') {
+        return line.len();
+    }
     let mut in_string = false;
     let mut escaped = false;
     for (k, c) in line.char_indices() {
