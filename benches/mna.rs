@@ -91,8 +91,7 @@ fn per_point(c: &mut Criterion) {
     group.finish();
 }
 
-/// The faer sparse LU (root feature `sparse`) on the larger ladders.
-#[cfg(feature = "sparse")]
+/// The sparse LU on the larger ladders.
 fn per_point_sparse(c: &mut Criterion) {
     let freqs = freqs();
     let mut group = c.benchmark_group("mna_point_sparse");
@@ -115,9 +114,6 @@ fn per_point_sparse(c: &mut Criterion) {
     }
     group.finish();
 }
-
-#[cfg(not(feature = "sparse"))]
-fn per_point_sparse(_: &mut Criterion) {}
 
 fn sweep(c: &mut Criterion) {
     let freqs = freqs();

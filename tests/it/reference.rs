@@ -160,9 +160,7 @@ fn reference_cases_match_their_sources() {
     );
 }
 
-/// The same cases through the sparse solver (the `sparse` feature): same references, same
-/// tolerances.
-#[cfg(feature = "sparse")]
+/// The same cases through the sparse solver: same references, same tolerances.
 #[test]
 fn reference_cases_match_their_sources_with_the_sparse_solver() {
     let runs: Vec<CaseRun> = case_names()
@@ -517,8 +515,8 @@ fn verification_markdown(runs: &[CaseRun]) -> String {
          - The Chebyshev ripple edge is checked as `cutoff_high` at level −(ripple) dB: the\n  \
          ripple minima inside the band touch that level exactly, so the report may count\n  \
          them as (double) crossings; the ripple edge is the highest one.\n\
-         - The table is from the dense solver; `cargo test --features sparse` runs the same\n  \
-         cases, references and tolerances through the sparse solver as well."
+         - The table is from the dense solver; `cargo test` runs the same cases, references\n  \
+         and tolerances through the sparse solver as well."
     );
     let _ = writeln!(out, "\n## Looser tolerances and why\n");
     for run in runs {

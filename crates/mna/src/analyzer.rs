@@ -7,7 +7,8 @@ use rolloff_netlist::{Circuit, DriveError, NodeId, PartId, PartKind, ProbeKind};
 
 use crate::bias::BiasReport;
 use crate::error::{BiasWarning, MnaError, MnaWarning};
-use crate::solver::{DenseLu, FactorReport, LinearSolver, SolverError};
+use crate::solver::{FactorReport, LinearSolver, SolverError};
+use crate::sparse::{AutoLu, RowReplaced, SolverChoice};
 use crate::system::{ParamRole, System, Unknown, node_unknown};
 use crate::topology;
 
@@ -58,7 +59,7 @@ const HOPELESS: f64 = 1.0 / f64::EPSILON;
 /// assert!(values[0][0].norm() > values[0][2].norm());
 /// ```
 #[derive(Debug, Clone)]
-pub struct Analyzer<S: LinearSolver = DenseLu> {
+pub struct Analyzer<S: LinearSolver = AutoLu> {
     circuit: Circuit,
     system: System,
     solver: S,
@@ -79,8 +80,9 @@ pub struct Analyzer<S: LinearSolver = DenseLu> {
 /// A probe value and its ω-derivative.
 type ValueAndSlope = (Complex64, Complex64);
 
-impl Analyzer<DenseLu> {
-    /// Stamps a circuit and runs the structural checks.
+impl Analyzer<AutoLu> {
+    /// Stamps a circuit and runs the structural checks. The linear solver is chosen by
+    /// size and fill ([`AutoLu`]): dense for small systems, sparse for large ones.
     ///
     /// # Errors
     /// Names the cause when the AC system is structurally singular: a node with no
@@ -90,8 +92,36 @@ impl Analyzer<DenseLu> {
     /// ([`MnaError::OpAmpNoFeedback`]); a part value that is not finite (and
     /// positive where it must be) ([`MnaError::BadValue`]); a node or drive id that is
     /// not in the circuit ([`MnaError::UnknownNode`], [`MnaError::UnknownPart`]).
-    pub fn new(circuit: &Circuit) -> Result<Analyzer<DenseLu>, MnaError> {
-        Analyzer::with_solver(circuit)
+    pub fn new(circuit: &Circuit) -> Result<Analyzer<AutoLu>, MnaError> {
+        Analyzer::with_choice(circuit, SolverChoice::Auto)
+    }
+
+    /// As [`Analyzer::new`], with the dense or sparse kernel forced (or chosen
+    /// automatically with [`SolverChoice::Auto`]).
+    ///
+    /// # Errors
+    /// As [`Analyzer::new`].
+    pub fn with_choice(
+        circuit: &Circuit,
+        choice: SolverChoice,
+    ) -> Result<Analyzer<AutoLu>, MnaError> {
+        Analyzer::build(std::borrow::Cow::Borrowed(circuit), |system| {
+            AutoLu::with_choice(system, choice)
+        })
+    }
+
+    /// As [`Analyzer::with_choice`], taking the circuit by value so that a very large
+    /// circuit is not held twice.
+    ///
+    /// # Errors
+    /// As [`Analyzer::new`].
+    pub fn from_circuit(
+        circuit: Circuit,
+        choice: SolverChoice,
+    ) -> Result<Analyzer<AutoLu>, MnaError> {
+        Analyzer::build(std::borrow::Cow::Owned(circuit), |system| {
+            AutoLu::with_choice(system, choice)
+        })
     }
 }
 
@@ -101,6 +131,15 @@ impl<S: LinearSolver> Analyzer<S> {
     /// # Errors
     /// As [`Analyzer::new`].
     pub fn with_solver(circuit: &Circuit) -> Result<Analyzer<S>, MnaError> {
+        Analyzer::build(std::borrow::Cow::Borrowed(circuit), S::for_system)
+    }
+
+    fn build(
+        circuit: std::borrow::Cow<'_, Circuit>,
+        make: impl FnOnce(&System) -> S,
+    ) -> Result<Analyzer<S>, MnaError> {
+        let owned = circuit;
+        let circuit: &Circuit = &owned;
         check_ids(circuit)?;
         topology::check(circuit, false)?;
         let system = System::new(circuit);
@@ -122,8 +161,8 @@ impl<S: LinearSolver> Analyzer<S> {
         let dc_check = topology::check(circuit, true);
         let dim = system.dim();
         let mut analyzer = Analyzer {
-            circuit: circuit.clone(),
-            solver: S::for_system(&system),
+            circuit: owned.into_owned(),
+            solver: make(&system),
             system,
             warnings: Vec::new(),
             ill_warning: None,
@@ -761,9 +800,7 @@ impl<S: LinearSolver> Analyzer<S> {
     /// 100 MHz; the first frequency where `|β| > 1e-9` decides, and `Re β > 0` is
     /// positive feedback.
     fn check_feedback_signs(&mut self) {
-        let n = self.system.dim();
-        let mut lu = DenseLu::with_dim(n);
-        let mut rhs = vec![ZERO; n];
+        let mut rhs = Vec::new();
         for (k, part) in self.circuit.parts.iter().enumerate() {
             let PartKind::OpAmp {
                 out,
@@ -783,19 +820,11 @@ impl<S: LinearSolver> Analyzer<S> {
             let freqs = std::iter::once(0.0)
                 .filter(|_| dc_ok)
                 .chain((0..=8).map(|e| 10f64.powi(e)));
+            let mut test = RowReplaced::new(&self.system, row, out_col);
             for f in freqs {
-                self.system.fill_dense(2.0 * PI * f, lu.buffer_mut());
-                let buf = lu.buffer_mut();
-                for col in buf.chunks_exact_mut(n) {
-                    col[row] = ZERO;
-                }
-                buf[out_col * n + row] = Complex64::new(1.0, 0.0);
-                if lu.factor_buffer().is_err() {
+                if !test.solve(&self.system, 2.0 * PI * f, &mut rhs) {
                     continue;
                 }
-                rhs.fill(ZERO);
-                rhs[row] = Complex64::new(1.0, 0.0);
-                lu.solve_in_place(&mut rhs);
                 let beta = node_value(&rhs, in_pos) - node_value(&rhs, in_neg);
                 if !beta.is_finite() || beta.norm() <= 1e-9 {
                     continue;
@@ -877,3 +906,5 @@ fn set_kind_value(kind: &mut PartKind, role: ParamRole, v: f64) {
         (PartKind::OpAmp { gbw, .. }, _) => *gbw = Some(v),
     }
 }
+
+mod parallel;

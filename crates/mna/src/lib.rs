@@ -87,7 +87,6 @@ mod analyzer;
 mod bias;
 mod error;
 mod solver;
-#[cfg(feature = "sparse")]
 mod sparse;
 mod system;
 mod topology;
@@ -96,6 +95,7 @@ pub use analyzer::Analyzer;
 pub use bias::BiasReport;
 pub use error::{BiasWarning, MnaError, MnaWarning};
 pub use solver::{DenseLu, FactorReport, LinearSolver, SolverError};
-#[cfg(feature = "sparse")]
-pub use sparse::SparseLu;
+pub use sparse::{
+    AutoLu, DENSE_ALWAYS_MAX, DENSE_NEVER_ABOVE, PIVOT_THRESHOLD, SolverChoice, SparseLu,
+};
 pub use system::{Coef, Matrix, ParamRole, Parameter, SourceStamp, StampEntry, System, Unknown};

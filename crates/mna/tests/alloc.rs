@@ -16,11 +16,12 @@ static GLOBAL: &StatsAlloc<System> = &INSTRUMENTED_SYSTEM;
 fn main() {
     per_frequency_solves_allocate_nothing::<rolloff_mna::DenseLu>();
     println!("test per_frequency_solves_allocate_nothing (dense) ... ok");
-    #[cfg(feature = "sparse")]
-    {
-        per_frequency_solves_allocate_nothing::<rolloff_mna::SparseLu>();
-        println!("test per_frequency_solves_allocate_nothing (sparse) ... ok");
-    }
+    // The sparse path, kept pivots and fresh factorisations alike (this circuit needs
+    // some of the latter), and the automatic choice.
+    per_frequency_solves_allocate_nothing::<rolloff_mna::SparseLu>();
+    println!("test per_frequency_solves_allocate_nothing (sparse) ... ok");
+    per_frequency_solves_allocate_nothing::<rolloff_mna::AutoLu>();
+    println!("test per_frequency_solves_allocate_nothing (auto) ... ok");
 }
 
 fn per_frequency_solves_allocate_nothing<S: rolloff_mna::LinearSolver>() {

@@ -7,7 +7,7 @@
 //! a root of `Re(H′/H)` (the slope of the gain) where the source gives a derivative, by
 //! Brent's minimiser otherwise. The definitions are written out in `docs/metrics.md`.
 
-use crate::format::{DEFAULT_LEVEL_DB, fmt_db, fmt_hz, fmt_num};
+use crate::format::{DEFAULT_LEVEL_DB, fmt_db, fmt_hz, fmt_hz_approx, fmt_num};
 use crate::numeric::{
     self, MIN_TOL, ROOT_ITERATIONS, ROOT_TOL, brent_min, brent_root, nearest_branch,
 };
@@ -217,8 +217,8 @@ impl fmt::Display for ReportWarning {
             ReportWarning::SlopeBeyondSweep { from_hz, to_hz } => write!(
                 f,
                 "a stopband slope is measured beyond the sweep ({} .. {})",
-                fmt_hz(from_hz),
-                fmt_hz(to_hz)
+                fmt_hz_approx(from_hz),
+                fmt_hz_approx(to_hz)
             ),
         }
     }

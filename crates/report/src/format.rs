@@ -20,6 +20,16 @@ const EXPONENT_BELOW: f64 = 1e-4;
 /// A value with an SI prefix and unit, up to nine significant digits, trailing zeros
 /// trimmed: `fmt_si(15915.49, "Hz")` is `15.91549 kHz`.
 pub fn fmt_si(value: f64, unit: &str) -> String {
+    fmt_si_digits(value, unit, DIGITS)
+}
+
+/// A computed frequency for a note (a range the report chose, not a bound the user
+/// wrote): four significant digits are enough to find it (`48.13 kHz`).
+pub fn fmt_hz_approx(freq_hz: f64) -> String {
+    fmt_si_digits(freq_hz, "Hz", 4)
+}
+
+fn fmt_si_digits(value: f64, unit: &str, digits: i32) -> String {
     const PREFIXES: [(f64, &str); 11] = [
         (1e12, "T"),
         (1e9, "G"),
@@ -40,13 +50,14 @@ pub fn fmt_si(value: f64, unit: &str) -> String {
         return format!("0 {unit}");
     }
     let magnitude = value.abs();
-    // A value that rounds up to the next step at nine digits takes that step's prefix.
+    // A value that rounds up to the next step at these digits takes that step's prefix.
+    let rounding = 0.5 * 10f64.powi(-digits);
     let (scale, prefix) = PREFIXES
         .iter()
         .copied()
-        .find(|(scale, _)| magnitude >= *scale * (1.0 - 5e-10))
+        .find(|(scale, _)| magnitude >= *scale * (1.0 - rounding))
         .unwrap_or((1e-18, "a"));
-    format!("{} {prefix}{unit}", fmt_sig(value / scale, DIGITS))
+    format!("{} {prefix}{unit}", fmt_sig(value / scale, digits))
 }
 
 /// A frequency in Hz with an SI prefix (`1 MHz`, `159.154943 Hz`).
@@ -142,6 +153,14 @@ mod tests {
     /// Numbers as written in an `expect` line print as written, in every unit; a stored
     /// value with more digits prints to nine significant digits; nothing small rounds
     /// to zero.
+    #[test]
+    fn computed_ranges_print_short() {
+        assert_eq!(fmt_hz_approx(48_125.441_2), "48.13 kHz");
+        assert_eq!(fmt_hz_approx(0.014_983_656), "14.98 mHz");
+        // 999.96 Hz rounds to four digits as the next prefix step.
+        assert_eq!(fmt_hz_approx(999.96), "1 kHz");
+    }
+
     #[test]
     fn numbers_print_as_written() {
         assert_eq!(fmt_db(-3.0103), "−3.0103 dB");

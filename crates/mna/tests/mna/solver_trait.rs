@@ -68,8 +68,7 @@ fn another_solver_plugs_in_and_factors_once_per_frequency() {
     assert_eq!(a.solver().pattern_len, 6);
 }
 
-/// The sparse solver agrees with the dense one (feature `sparse`).
-#[cfg(feature = "sparse")]
+/// The sparse solver agrees with the dense one.
 mod sparse {
     use num_complex::Complex64;
     use rolloff_mna::{Analyzer, MnaError, SparseLu};
