@@ -1,4 +1,11 @@
 //! Front-end speed: parse and elaborate large generated circuits.
+//!
+//! Target: the 100 000-part file in under 100 ms. FIXME: not met yet. Measured on the
+//! shared 2-core development machine (load average about 8): about 2.4 s wall for
+//! 100 000 parts and 6 ms for the 1 000-stage chain. Profiles show the time spread
+//! over allocation and freeing (one `String` per name in three name tables and the
+//! AST), hash lookups and the per-token parser; the next steps are interning names
+//! into one table and an arena for expressions.
 
 use criterion::{Criterion, criterion_group, criterion_main};
 use rolloff_netlist::{CompileOptions, compile};

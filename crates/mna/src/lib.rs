@@ -22,14 +22,45 @@
 //!   and `gbw`, a finite gain with `gain`, a single pole at `gbw/gain` with both (an
 //!   integrator `2π·gbw/(jω)` with `gbw` alone).
 //!
+//! - Transfers have only the drive active, divided by its amplitude (the EMF before
+//!   its `rs`, so source loading is in the result), phases relative to its phase.
+//!   `zin` is what the drive sees at its terminals, itself (and its own `rs`/`rp`)
+//!   removed; `zout` at a node has every independent source zeroed, `rs`/`rp` kept.
+//! - 0 Hz is the DC system (capacitors open, inductors shorted); a circuit that has
+//!   no DC solution (a node reached only through capacitors, an ideal integrator)
+//!   gets the named DC error there.
+//!
 //! # Numerics
-//! A dense complex LU with partial pivoting ([`DenseLu`]) sits behind the
-//! [`LinearSolver`] trait. Before factorising, `Y` is equilibrated by powers of two
-//! (rows, then columns, each to a largest entry in `[1, 2)`): exact, and enough for
-//! values from 1 fF to 1 F, 1 mΩ to 1 TΩ, 1 nH to 1 kH at 1 mHz to 10 GHz. When the
-//! pivots of the scaled matrix spread by more than 10⁶ (or grow by more than 10⁶), a
-//! Hager/Higham 1-norm condition estimate is made: above 10¹² it is recorded as a
-//! warning, above 1/ε it is an error. No NaN or infinity is ever returned.
+//! A dense complex LU with partial pivoting ([`DenseLu`], hand-written, in place, no
+//! allocation per frequency) sits behind the [`LinearSolver`] trait; with the
+//! `sparse` feature a faer sparse LU (`SparseLu`) reuses one symbolic
+//! factorisation of the stamp pattern for every frequency. The [`System`] keeps `G`
+//! and `C` as values on one compressed-column pattern, so either solver reads the
+//! same stamps.
+//!
+//! Equilibration: before factorising, `Y` is scaled by powers of two — each row so
+//! that its largest entry (`|re| + |im|`) lies in `[1, 2)`, then each column of the
+//! row-scaled matrix likewise. Scaling by powers of two is exact (no rounding), and it
+//! is what keeps closed forms to 1e-9 relative for values from 1 fF to 1 F, 1 mΩ to
+//! 1 TΩ, 1 nH to 1 kH at 1 mHz to 10 GHz. Conditioning is judged on the scaled matrix:
+//! when its pivots spread by more than 10⁶ or grow by more than 10⁶, a Hager/Higham
+//! 1-norm condition estimate is made; above 10¹² (or with pivot growth above 10⁸) it
+//! becomes an [`MnaWarning::IllConditioned`], above 1/ε an [`MnaError::Singular`]. A
+//! drive current within 64 ulps of the currents meeting at the drive's terminals is an
+//! open circuit ([`MnaError::InfiniteImpedance`]). No NaN or infinity is ever
+//! returned.
+//!
+//! Diagnostics come from graph checks first (they name nodes and parts), then from
+//! numerics (they name the unknown and the frequency). An op-amp's feedback sign is
+//! checked once, in [`Analyzer::new`], by driving its output with a test source and
+//! reading `β = ∂(v+ − v−)/∂v_out` (at DC, else from 1 Hz up): `Re β > 0` is positive
+//! feedback, which an ideal model cannot see, and is warned about.
+//!
+//! # Adding a part kind
+//! Stamp it in `System::new` (entries whose coefficients index the parameter vector,
+//! a branch unknown if it defines a voltage), give its edges to the graph checks in
+//! `topology.rs`, its current to `Analyzer::part_current` and its bias checks to
+//! `Analyzer::bias`.
 //!
 //! # Example
 //! ```

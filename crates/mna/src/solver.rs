@@ -151,18 +151,18 @@ impl DenseLu {
         }
         let mut norm = 0.0f64;
         for (col, cs) in a.chunks_exact_mut(n).zip(self.col_scale.iter_mut()) {
+            // norm1(z·r) = norm1(z)·r exactly, r being a power of two.
             let mut m = 0.0f64;
-            for (z, &r) in col.iter_mut().zip(rmax.iter()) {
-                *z *= r;
-                m = m.max(norm1(*z));
+            for (z, &r) in col.iter().zip(rmax.iter()) {
+                m = m.max(norm1(*z) * r);
             }
             // An all-zero column is caught as a zero pivot.
             *cs = if m > 0.0 { inverse_pow2(m) } else { 1.0 };
             // Column sums of |re| + |im|: within √2 of the modulus 1-norm, without
             // a square root per entry.
             let mut sum = 0.0;
-            for z in col.iter_mut() {
-                *z *= *cs;
+            for (z, &r) in col.iter_mut().zip(rmax.iter()) {
+                *z = *z * r * *cs;
                 sum += norm1(*z);
             }
             norm = norm.max(sum);
@@ -174,8 +174,12 @@ impl DenseLu {
     fn eliminate(&mut self) -> Result<FactorReport, SolverError> {
         let n = self.n;
         let a = &mut self.lu;
-        // After equilibration every column's largest entry lies in [1, 2).
-        let amax = 1.0;
+        // After equilibration every column's largest entry lies in [1, 2), so the
+        // growth factor is the largest entry of U. U's row k is final after step k:
+        // its diagonal is the pivot and its other entries are the multipliers read
+        // in the update, so the statistics cost no extra pass.
+        let mut umax = 0.0f64;
+        let (mut dmin, mut dmax, mut at) = (f64::INFINITY, 0.0f64, 0);
         for k in 0..n {
             let (left, right) = a.split_at_mut((k + 1) * n);
             let colk = &mut left[k * n..];
@@ -191,6 +195,11 @@ impl DenseLu {
             if !(best > 0.0 && best.is_finite()) {
                 return Err(SolverError::ZeroPivot { unknown: k });
             }
+            if best < dmin {
+                dmin = best;
+                at = k;
+            }
+            dmax = dmax.max(best);
             self.ipiv[k] = p;
             if p != k {
                 colk.swap(k, p);
@@ -213,27 +222,15 @@ impl DenseLu {
                 if akj == Complex64::new(0.0, 0.0) {
                     continue;
                 }
+                umax = umax.max(norm1(akj));
                 for (z, &l) in colj[k + 1..].iter_mut().zip(&colk[k + 1..]) {
                     *z -= l * akj;
                 }
             }
         }
-        let mut umax = 0.0f64;
-        let (mut dmin, mut dmax, mut at) = (f64::INFINITY, 0.0f64, 0);
-        for (j, col) in a.chunks_exact(n).enumerate() {
-            for &z in &col[..=j] {
-                umax = umax.max(norm1(z));
-            }
-            let d = norm1(col[j]);
-            if d < dmin {
-                dmin = d;
-                at = j;
-            }
-            dmax = dmax.max(d);
-        }
         Ok(FactorReport {
             pivot_ratio: if n == 0 { 1.0 } else { dmin / dmax },
-            growth: umax / amax,
+            growth: umax.max(dmax),
             smallest_pivot_unknown: at,
         })
     }

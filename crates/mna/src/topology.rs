@@ -42,15 +42,10 @@ pub(crate) fn check(circuit: &Circuit, dc: bool) -> Result<(), MnaError> {
     opamp_feedback(circuit, dc)
 }
 
-fn is_ideal_opamp(kind: &PartKind) -> bool {
-    matches!(
-        kind,
-        PartKind::OpAmp {
-            gain: None,
-            gbw: None,
-            ..
-        }
-    )
+/// Whether the op-amp acts as a nullor: no `gain` and no `gbw`, or, at DC, no `gain`
+/// (a `gbw`-only model has infinite gain at DC).
+fn is_ideal_opamp(kind: &PartKind, dc: bool) -> bool {
+    matches!(kind, PartKind::OpAmp { gain: None, gbw, .. } if gbw.is_none() || dc)
 }
 
 /// Every node must reach `gnd` through parts that define voltages (not only through
@@ -195,7 +190,7 @@ fn opamp_feedback(circuit: &Circuit, dc: bool) -> Result<(), MnaError> {
         else {
             continue;
         };
-        if !is_ideal_opamp(&part.kind) {
+        if !is_ideal_opamp(&part.kind, dc) {
             continue;
         }
         let mut adjacency: Vec<Vec<usize>> = vec![Vec::new(); n];

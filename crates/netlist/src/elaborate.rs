@@ -13,7 +13,7 @@ use crate::circuit::{
     NodeId, Part, PartId, PartKind, Probe, ProbeId, ProbeKind, Span, Sweep, Target, Tolerance,
     Unit,
 };
-use crate::diagnostic::{Diagnostic, DiagnosticKind, line_col};
+use crate::diagnostic::{Diagnostic, DiagnosticKind};
 use crate::syntax::{
     BinOp, BlockDef, CmpSyntax, ExpectStmt, Expr, ExprKind, Func, Ident, MetricArg, PartKeyword,
     PartOption, PartStmt, PartValue, ProbeStmt, ProbeWhat, Stmt, StmtKind, SweepStmt, TargetSyntax,
@@ -149,6 +149,8 @@ pub(crate) fn elaborate(
         part_name_span: Vec::new(),
         bad_blocks: HashSet::new(),
         failed_parts: HashSet::new(),
+        suggestions_left: 50,
+        line_starts: std::cell::OnceCell::new(),
         has_fit: false,
     };
     e.names
@@ -172,6 +174,8 @@ struct Elaborator<'a> {
     part_name_span: Vec<Span>,
     bad_blocks: HashSet<String>,
     failed_parts: HashSet<String>,
+    suggestions_left: usize,
+    line_starts: std::cell::OnceCell<Vec<usize>>,
     has_fit: bool,
 }
 
@@ -187,8 +191,15 @@ impl<'a> Elaborator<'a> {
         &mut self.diags[last]
     }
 
+    /// The 1-based line of a span, from an index of line starts built on first use
+    /// (so many duplicates do not rescan the file).
     fn line_of(&self, span: Span) -> usize {
-        line_col(self.source, span.start).0
+        let starts = self.line_starts.get_or_init(|| {
+            std::iter::once(0)
+                .chain(self.source.match_indices('\n').map(|(i, _)| i + 1))
+                .collect()
+        });
+        starts.partition_point(|&start| start <= span.start).max(1)
     }
 
     fn run(&mut self, statements: &'a [Stmt], overrides: &[(String, Expr, String)]) -> Circuit {
@@ -457,7 +468,12 @@ impl<'a> Elaborator<'a> {
             binding.used = true;
             return binding.value;
         }
-        let d = unknown_value_name(n, span, self.let_names(scope));
+        let d = if self.suggestions_left > 0 {
+            self.suggestions_left -= 1;
+            unknown_value_name(n, span, self.let_names(scope))
+        } else {
+            unknown_value_name(n, span, std::iter::empty())
+        };
         self.diags.push(d);
         None
     }
@@ -636,7 +652,7 @@ impl<'a> Elaborator<'a> {
         }
         let note = match &e.kind {
             ExprKind::Name(n) => self.lets.get(*n).map(|b| {
-                let line = line_col(self.source, b.span.start).0;
+                let line = self.line_of(b.span);
                 format!(
                     "`{n}` is defined on line {line} as {}",
                     describe_quantity(q)
@@ -1420,7 +1436,7 @@ impl<'a> Elaborator<'a> {
 
     fn resolve_drive(&mut self, n: &Ident, circuit: &Circuit) -> Option<PartId> {
         let Some(&id) = self.part_index.get(n.name) else {
-            let names: Vec<String> = self.part_index.keys().cloned().collect();
+            let names = self.candidates(|e| e.part_index.keys().cloned().collect());
             self.unknown(
                 n,
                 "a source",
@@ -1438,6 +1454,16 @@ impl<'a> Elaborator<'a> {
         )
         .expected = Some("expected a `vsrc` or `isrc` with an amplitude".into());
         None
+    }
+
+    /// Names to search for a did-you-mean; empty once 50 searches were made, so a
+    /// file full of unknown names stays linear.
+    fn candidates(&mut self, make: impl FnOnce(&Self) -> Vec<String>) -> Vec<String> {
+        if self.suggestions_left == 0 {
+            return Vec::new();
+        }
+        self.suggestions_left -= 1;
+        make(self)
     }
 
     fn unknown(&mut self, n: &Ident, what: &str, candidates: &[&str]) {
@@ -1574,8 +1600,7 @@ impl<'a> Elaborator<'a> {
         if let Some(&id) = self.node_index.get(n.name) {
             return Some(id);
         }
-        let candidates: Vec<&str> = self.nodes.iter().map(String::as_str).collect();
-        let candidates: Vec<String> = candidates.iter().map(|s| (*s).to_string()).collect();
+        let candidates = self.candidates(|e| e.nodes.clone());
         self.unknown(
             n,
             "a node",
@@ -1591,7 +1616,7 @@ impl<'a> Elaborator<'a> {
         if self.failed_parts.contains(n.name) {
             return None;
         }
-        let names: Vec<String> = self.part_index.keys().cloned().collect();
+        let names = self.candidates(|e| e.part_index.keys().cloned().collect());
         self.unknown(
             n,
             "a part",
@@ -1660,13 +1685,15 @@ impl<'a> Elaborator<'a> {
                 if allow_part && let Some(&id) = self.part_index.get(n.name) {
                     return Some(Target::Part(id));
                 }
-                let mut candidates: Vec<&str> =
-                    circuit.probes.iter().map(|p| p.name.as_str()).collect();
-                candidates.extend(self.nodes.iter().map(String::as_str));
-                if allow_part {
-                    candidates.extend(self.part_index.keys().map(String::as_str));
-                }
-                let candidates: Vec<String> = candidates.into_iter().map(str::to_string).collect();
+                let candidates = self.candidates(|e| {
+                    let mut all: Vec<String> =
+                        circuit.probes.iter().map(|p| p.name.clone()).collect();
+                    all.extend(e.nodes.iter().cloned());
+                    if allow_part {
+                        all.extend(e.part_index.keys().cloned());
+                    }
+                    all
+                });
                 let what = if allow_part {
                     "a node, a part or a probe"
                 } else {

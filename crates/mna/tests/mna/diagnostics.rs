@@ -548,3 +548,23 @@ fn an_open_circuit_seen_through_roundoff_is_an_infinite_impedance() {
     let z = a.transfer(&ProbeKind::InputImpedance, 1e3).unwrap();
     assert!(z.re > 1e3 && z.norm() < 1e7, "{z}");
 }
+
+#[test]
+fn gbw_only_opamp_open_loop_has_no_dc_point() {
+    // A(s) = 2π·gbw/s open loop: finite at AC, infinite gain at DC.
+    let mut bld = Circuit::builder();
+    let (out, inp, gnd) = (bld.node("out"), bld.node("in"), bld.node("gnd"));
+    let circuit = bld
+        .vsrc("V1", "in", "gnd", 1.0)
+        .part("U1", opamp(out, inp, gnd, None, Some(1e6)))
+        .resistor("RL", "out", "gnd", 1e3)
+        .build()
+        .unwrap();
+    let mut a = Analyzer::new(&circuit).unwrap();
+    let h = a.transfer(&ProbeKind::Node(out), 1e3).unwrap();
+    crate::check(h, num_complex::Complex64::new(0.0, -1e3), 1e-12);
+    assert_eq!(
+        a.bias().unwrap_err(),
+        MnaError::OpAmpNoDcFeedback { part: "U1".into() }
+    );
+}
