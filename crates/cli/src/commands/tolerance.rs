@@ -8,11 +8,11 @@ use std::time::Duration;
 use std::fmt::Write as _;
 
 use clap::Args;
-use rolloff_netlist::{Circuit, Tolerance};
+use rolloff_netlist::{Circuit, Metric, PartId, Tolerance};
 use rolloff_tolerance::montecarlo::MonteCarloReport;
 use rolloff_tolerance::worstcase::{Corner, Extreme, WorstCaseReport};
 use rolloff_tolerance::{
-    Distribution, MonteCarloOptions, WorstCaseOptions, monte_carlo, worst_case,
+    Distribution, Model, MonteCarloOptions, WorstCaseOptions, monte_carlo, worst_case,
 };
 use serde::Serialize;
 
@@ -94,30 +94,52 @@ pub fn run(args: &ToleranceArgs, session: &Session) -> Result<Outcome, Reported>
         default_tolerance: args.default_tol,
         histogram_bins: args.bins,
     };
-    // The library reports no progress, so a long run shows a spinner with the elapsed
-    // time (on a terminal only: indicatif hides it when standard error is not one).
-    let spinner = (args.runs >= 200).then(|| {
-        let bar = indicatif::ProgressBar::new_spinner();
-        bar.set_message(format!("{} Monte Carlo runs", args.runs));
-        bar.enable_steady_tick(Duration::from_millis(120));
+    // The bar counts the trials as the library measures them (one `measure_many` per
+    // trial, plus one at nominal); indicatif hides it when stderr is not a terminal.
+    let long = args.runs >= 100;
+    let bar = if long {
+        let bar = indicatif::ProgressBar::new(args.runs as u64 + 1);
+        bar.set_style(
+            indicatif::ProgressStyle::with_template(
+                "{msg} [{bar:30}] {pos}/{len} runs, {eta} left",
+            )
+            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar())
+            .progress_chars("=> "),
+        );
+        bar.set_message("Monte Carlo");
         bar
-    });
-    let report = monte_carlo(&model, &options, Some(&pool));
+    } else {
+        indicatif::ProgressBar::hidden()
+    };
+    let counted = Counted {
+        inner: model.clone(),
+        bar: bar.clone(),
+    };
+    let report = monte_carlo(&counted, &options, Some(&pool));
+    bar.finish_and_clear();
     let worst = if args.worst_case && report.is_ok() {
-        if let Some(bar) = &spinner {
-            bar.set_message("worst case");
-        }
+        let spinner = if long {
+            let spinner = indicatif::ProgressBar::new_spinner();
+            spinner.set_message("worst case: corners evaluated");
+            spinner.enable_steady_tick(Duration::from_millis(120));
+            spinner
+        } else {
+            indicatif::ProgressBar::hidden()
+        };
         let options = WorstCaseOptions {
             default_tolerance: args.default_tol,
             ..WorstCaseOptions::default()
         };
-        Some(worst_case(&model, &options, Some(&pool)))
+        let counted = Counted {
+            inner: model.clone(),
+            bar: spinner.clone(),
+        };
+        let result = worst_case(&counted, &options, Some(&pool));
+        spinner.finish_and_clear();
+        Some(result)
     } else {
         None
     };
-    if let Some(bar) = spinner {
-        bar.finish_and_clear();
-    }
     let report = report.map_err(|e| design::failed(session, &loaded, &e))?;
     let worst = worst
         .transpose()
@@ -135,6 +157,34 @@ pub fn run(args: &ToleranceArgs, session: &Session) -> Result<Outcome, Reported>
     match args.min_yield {
         Some(min) if report.overall_yield < min => Ok(Outcome::Fail),
         _ => Ok(Outcome::Pass),
+    }
+}
+
+/// A model that counts its measurements on a progress bar and otherwise is `inner`
+/// (the values it gives are the inner model's, so results do not change).
+#[derive(Debug, Clone)]
+struct Counted<M> {
+    inner: M,
+    bar: indicatif::ProgressBar,
+}
+
+impl<M: Model> Model for Counted<M> {
+    fn circuit(&self) -> &Circuit {
+        self.inner.circuit()
+    }
+
+    fn set_part_value(&mut self, part: PartId, value: f64) -> Result<(), String> {
+        self.inner.set_part_value(part, value)
+    }
+
+    fn measure(&mut self, metric: &Metric) -> Result<f64, String> {
+        self.inner.measure(metric)
+    }
+
+    fn measure_many(&mut self, metrics: &[Metric]) -> Vec<Result<f64, String>> {
+        let measured = self.inner.measure_many(metrics);
+        self.bar.inc(1);
+        measured
     }
 }
 
