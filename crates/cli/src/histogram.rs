@@ -32,10 +32,10 @@ pub struct Chart<'a> {
     pub nominal: Option<f64>,
 }
 
-const WIDTH: f64 = 760.0;
+const WIDTH: f64 = 780.0;
 const HEIGHT: f64 = 470.0;
 const LEFT: f64 = 70.0;
-const RIGHT: f64 = 736.0;
+const RIGHT: f64 = 740.0;
 const TOP: f64 = 78.0;
 const BOTTOM: f64 = 370.0;
 const FONT: &str = "DejaVu Sans, Helvetica, Arial, sans-serif";
@@ -69,7 +69,8 @@ pub fn render(chart: &Chart) -> String {
     let x = |v: f64| LEFT + (v - low) / (high - low) * (RIGHT - LEFT);
     let peak = h.counts.iter().copied().max().unwrap_or(0).max(1);
     let count_step = nice_step(peak as f64, 5.0).max(1.0);
-    let count_top = (peak as f64 / count_step).ceil() * count_step;
+    // A little headroom so the tallest bar does not touch the top grid line.
+    let count_top = (peak as f64 * 1.05 / count_step).ceil() * count_step;
     let y = |c: f64| BOTTOM - c / count_top * (BOTTOM - TOP);
 
     let mut out = String::new();

@@ -612,3 +612,41 @@ fn sensitivity_table_csv_and_errors() {
     assert_exit(&run(&["sensitivity", FIT]), 2);
     assert_exit(&run(&["sensitivity", "no/such/file.rol"]), 2);
 }
+
+/// The README shows the histograms of the logger demo; they must be what the binary
+/// draws now (`ROLLOFF_UPDATE_SNAPSHOTS=1` rewrites them).
+#[test]
+fn the_readme_histograms_are_current() {
+    let committed = repo_root().join("docs/images/logger_antialias");
+    let fresh =
+        std::env::temp_dir().join(format!("rolloff-readme-histograms-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&fresh);
+    let args = [
+        "tolerance",
+        "fixtures/demo/logger_antialias.rol",
+        "--runs",
+        "200",
+        "--histograms",
+        fresh.to_str().unwrap(),
+    ];
+    assert_exit(&run(&args), 0);
+    let update = std::env::var_os("ROLLOFF_UPDATE_SNAPSHOTS").is_some();
+    for name in [
+        "cutoff_adc",
+        "gain_adc_5_kHz",
+        "slope_adc_50_kHz_200_kHz",
+        "impedance_zin_100_Hz",
+    ] {
+        let file = format!("{name}.svg");
+        let now = std::fs::read_to_string(fresh.join(&file)).unwrap();
+        if update {
+            std::fs::write(committed.join(&file), &now).unwrap();
+        }
+        assert_eq!(
+            std::fs::read_to_string(committed.join(&file)).unwrap(),
+            now,
+            "docs/images/logger_antialias/{file} is not what the binary draws now"
+        );
+    }
+    std::fs::remove_dir_all(&fresh).unwrap();
+}
