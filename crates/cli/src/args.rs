@@ -51,6 +51,14 @@ pub enum Command {
     Snapshot(SnapshotArgs),
     /// Compare the circuit against a snapshot at the snapshot's own frequencies.
     Compare(CompareArgs),
+    /// The standard values (IEC 60063) around a value, with their codes (IEC 60062).
+    Values(crate::commands::values::ValuesArgs),
+    /// Solve the `?` parts for the file's `=` targets and round them to a series.
+    Fit(crate::commands::fit::FitArgs),
+    /// Monte Carlo over the tolerance bands: spread, yield, worst case, histograms.
+    Tolerance(crate::commands::tolerance::ToleranceArgs),
+    /// How strongly each metric depends on each part (normalised sensitivities).
+    Sensitivity(crate::commands::sensitivity::SensitivityArgs),
     /// Print a shell completion script.
     Completions(CompletionsArgs),
 }

@@ -25,6 +25,10 @@ fn main() -> ExitCode {
         Command::Snapshot(args) => exit_code(commands::snapshot::run_snapshot(args, &session)),
         Command::Compare(args) => exit_code(commands::snapshot::run_compare(args, &session)),
         Command::Report(args) => exit_code(commands::report::run(args, &session)),
+        Command::Values(args) => exit_code(commands::values::run(args, &session)),
+        Command::Fit(args) => exit_code(commands::fit::run(args, &session)),
+        Command::Tolerance(args) => exit_code(commands::tolerance::run(args, &session)),
+        Command::Sensitivity(args) => exit_code(commands::sensitivity::run(args, &session)),
         Command::Completions(args) => {
             let mut script = Vec::new();
             clap_complete::generate(args.shell, &mut Cli::command(), "rolloff", &mut script);

@@ -3,10 +3,15 @@
 
 pub mod bias;
 pub mod check;
+pub mod design;
+pub mod fit;
 pub mod plot;
 pub mod report;
+pub mod sensitivity;
 pub mod snapshot;
 pub mod sweep;
+pub mod tolerance;
+pub mod values;
 
 use std::path::Path;
 use std::process::ExitCode;
