@@ -3,7 +3,8 @@
 //! Target: the 100 000-part file in under 100 ms. FIXME: not met yet. Measured with
 //! `cargo bench --bench netlist -- --quick` on the shared 2-core development machine
 //! (load average 5 to 8): about 0.58 s for 100 000 parts (was 2.4 s) and 5.3 ms for
-//! the 1 000-stage chain (was 6.1 ms). There is nothing quadratic: instruction counts
+//! the 1 000-stage chain (was 6.1 ms); on the same machine with nothing else running,
+//! 0.31 s and 2.3 ms. There is nothing quadratic: instruction counts
 //! (callgrind) grow linearly with the part count, about 7 200 instructions per part
 //! (was 12 500). What was removed: three `String` keys per name in three hash tables
 //! (now one table keyed by names borrowed from the source), growing node and option
