@@ -738,61 +738,22 @@ impl LinearSolver for SparseLu {
     }
 }
 
-/// Hager/Higham estimate of `‖A_s⁻¹‖₁` from the factors (as the dense path's).
+/// Hager/Higham estimate of `‖A_s⁻¹‖₁` from the factors, by the dense path's estimator.
 fn inverse_norm1_estimate(
     f: &Factors,
     x: &mut [Complex64],
     s: &mut [Complex64],
     w: &mut [Complex64],
 ) -> f64 {
-    let n = f.n;
-    if n == 0 {
-        return 0.0;
-    }
-    x.fill(Complex64::new(1.0 / n as f64, 0.0));
-    f.solve(x);
-    let mut est: f64 = x.iter().map(|z| z.norm()).sum();
-    let mut last_j = usize::MAX;
-    for _ in 0..5 {
-        for (si, xi) in s.iter_mut().zip(x.iter()) {
-            let m = xi.norm();
-            *si = if m > 0.0 {
-                xi / m
-            } else {
-                Complex64::new(1.0, 0.0)
-            };
+    let est = crate::solver::hager(f.n, x, s, |v, adjoint| {
+        if adjoint {
+            f.solve_adjoint(v, w);
+        } else {
+            f.solve(v);
         }
-        f.solve_adjoint(s, w);
-        let mut j = 0;
-        let mut best = -1.0;
-        for (i, z) in s.iter().enumerate() {
-            if z.norm() > best {
-                best = z.norm();
-                j = i;
-            }
-        }
-        if j == last_j {
-            break;
-        }
-        last_j = j;
-        x.fill(ZERO);
-        x[j] = Complex64::new(1.0, 0.0);
-        f.solve(x);
-        let new: f64 = x.iter().map(|z| z.norm()).sum();
-        if new <= est {
-            break;
-        }
-        est = new;
-    }
-    let denom = (n.max(2) - 1) as f64;
-    for (i, xi) in x.iter_mut().enumerate() {
-        let sgn = if i % 2 == 0 { 1.0 } else { -1.0 };
-        *xi = Complex64::new(sgn * (1.0 + i as f64 / denom), 0.0);
-    }
-    f.solve(x);
-    let alt: f64 = 2.0 * x.iter().map(|z| z.norm()).sum::<f64>() / (3.0 * n as f64);
+    });
     w.fill(ZERO);
-    est.max(alt)
+    est
 }
 
 /// How [`AutoLu`] picks its kernel.
