@@ -8,13 +8,10 @@
 //! hand solutions leave out (stated there too).
 #![allow(clippy::unwrap_used, clippy::expect_used)]
 
-use std::io::Write as _;
-use std::path::{Path, PathBuf};
-use std::process::{Command, Output, Stdio};
+mod common;
 
-fn repo_root() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("../..")
-}
+use common::{assert_exit, repo_root, run, run_with, stderr, stdout};
+use std::path::PathBuf;
 
 fn demo(name: &str) -> String {
     format!("fixtures/demo/{name}.rol")
@@ -22,61 +19,6 @@ fn demo(name: &str) -> String {
 
 fn fixture(name: &str) -> String {
     format!("crates/cli/tests/fixtures/{name}")
-}
-
-/// Runs the binary from the repository root (so file names in messages are relative)
-/// with colour variables cleared, and optional standard input.
-fn run_with(args: &[&str], stdin: Option<&str>, env: &[(&str, &str)]) -> Output {
-    let mut command = Command::new(env!("CARGO_BIN_EXE_rolloff"));
-    command
-        .args(args)
-        .current_dir(repo_root())
-        .env_remove("NO_COLOR")
-        .env_remove("CLICOLOR_FORCE")
-        .env_remove("CLICOLOR")
-        .stdin(if stdin.is_some() {
-            Stdio::piped()
-        } else {
-            Stdio::null()
-        })
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped());
-    for (key, value) in env {
-        command.env(key, value);
-    }
-    let mut child = command.spawn().expect("the binary runs");
-    if let Some(text) = stdin {
-        child
-            .stdin
-            .take()
-            .unwrap()
-            .write_all(text.as_bytes())
-            .unwrap();
-    }
-    child.wait_with_output().unwrap()
-}
-
-fn run(args: &[&str]) -> Output {
-    run_with(args, None, &[])
-}
-
-fn stdout(output: &Output) -> String {
-    String::from_utf8(output.stdout.clone()).unwrap()
-}
-
-fn stderr(output: &Output) -> String {
-    String::from_utf8(output.stderr.clone()).unwrap()
-}
-
-#[track_caller]
-fn assert_exit(output: &Output, code: i32) {
-    assert_eq!(
-        output.status.code(),
-        Some(code),
-        "exit code\nstdout:\n{}\nstderr:\n{}",
-        stdout(output),
-        stderr(output)
-    );
 }
 
 fn temp_path(name: &str) -> PathBuf {

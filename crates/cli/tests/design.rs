@@ -10,68 +10,15 @@
 //! loaded divider of the fit example.
 #![allow(clippy::unwrap_used, clippy::expect_used)]
 
-use std::io::Write as _;
-use std::path::{Path, PathBuf};
-use std::process::{Command, Output, Stdio};
+mod common;
+
+use common::{assert_exit, repo_root, run, run_with, stderr, stdout};
 
 use serde_json::Value;
 
 const TAU: f64 = std::f64::consts::TAU;
 const RC: &str = "crates/cli/tests/fixtures/tolerance_rc.rol";
 const FIT: &str = "fixtures/examples/fit_pickup_lowpass.rol";
-
-fn repo_root() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("../..")
-}
-
-fn run_with(args: &[&str], stdin: Option<&str>) -> Output {
-    let mut command = Command::new(env!("CARGO_BIN_EXE_rolloff"));
-    command
-        .args(args)
-        .current_dir(repo_root())
-        .env_remove("NO_COLOR")
-        .env_remove("CLICOLOR_FORCE")
-        .stdin(if stdin.is_some() {
-            Stdio::piped()
-        } else {
-            Stdio::null()
-        })
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped());
-    let mut child = command.spawn().expect("the binary runs");
-    if let Some(text) = stdin {
-        child
-            .stdin
-            .take()
-            .unwrap()
-            .write_all(text.as_bytes())
-            .unwrap();
-    }
-    child.wait_with_output().unwrap()
-}
-
-fn run(args: &[&str]) -> Output {
-    run_with(args, None)
-}
-
-fn stdout(output: &Output) -> String {
-    String::from_utf8(output.stdout.clone()).unwrap()
-}
-
-fn stderr(output: &Output) -> String {
-    String::from_utf8(output.stderr.clone()).unwrap()
-}
-
-#[track_caller]
-fn assert_exit(output: &Output, code: i32) {
-    assert_eq!(
-        output.status.code(),
-        Some(code),
-        "exit code\nstdout:\n{}\nstderr:\n{}",
-        stdout(output),
-        stderr(output)
-    );
-}
 
 #[track_caller]
 fn json(args: &[&str]) -> Value {
@@ -406,7 +353,7 @@ expect cutoff(out) within 1.56 .. 1.62 kHz\n";
 #[test]
 fn min_yield_is_the_verdict() {
     let args = ["tolerance", "-", "--runs", "40", "--format", "json"];
-    let output = run_with(&args, Some(TIGHT));
+    let output = run_with(&args, Some(TIGHT), &[]);
     assert_exit(&output, 0);
     let v: Value = serde_json::from_str(&stdout(&output)).unwrap();
     assert_eq!(v["file"], "<stdin>");
@@ -414,10 +361,10 @@ fn min_yield_is_the_verdict() {
     assert!(y > 0.0 && y < 1.0, "{y}");
     let mut strict = args.to_vec();
     strict.extend(["--min-yield", "99%"]);
-    assert_exit(&run_with(&strict, Some(TIGHT)), 1);
+    assert_exit(&run_with(&strict, Some(TIGHT), &[]), 1);
     let mut lenient = args.to_vec();
     lenient.extend(["--min-yield", "1"]);
-    assert_exit(&run_with(&lenient, Some(TIGHT)), 0);
+    assert_exit(&run_with(&lenient, Some(TIGHT), &[]), 0);
 }
 
 #[test]
@@ -545,7 +492,7 @@ fn tolerance_input_errors_exit_2() {
     let no_expect =
         "vsrc V1 (in, gnd) 1 V\nresistor R1 (in, out) 1k tol 1%\ncapacitor C1 (out, gnd) 1n\n";
     assert_exit(
-        &run_with(&["tolerance", "-", "--runs", "4"], Some(no_expect)),
+        &run_with(&["tolerance", "-", "--runs", "4"], Some(no_expect), &[]),
         2,
     );
 }
